@@ -1,0 +1,182 @@
+"""A whole measurement chain, and the band and temperature it is judged at."""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from .bandwidth import DigitalPath, noise_bandwidth
+from .converter import ADC
+from .errors import ChainError, DesignError
+from .responses import SincFilter
+from .stages import AnalogStage, Reference, Sensor, check_positive
+
+__all__ = ["Band", "Chain", "ROOM_TEMPERATURE_K"]
+
+#: 25 °C, the temperature data sheets quote typical noise at.
+ROOM_TEMPERATURE_K = 298.15
+
+
+@dataclass(frozen=True)
+class Band:
+    """The measurement band.
+
+    Parameters
+    ----------
+    f_low_hz : float
+        Lower limit, Hz (> 0): about 1/(observation time). It bounds the 1/f
+        noise, which does not average down with longer records.
+    f_high_hz : float, optional
+        Top of the signal band, Hz. The noise band itself is what the chain's
+        filters pass; an ideal digital band limit is a digital filter stage.
+    """
+
+    f_low_hz: float = 0.01
+    f_high_hz: float | None = None
+
+    def __post_init__(self) -> None:
+        check_positive("band.f_low", self.f_low_hz, "a lower band edge > 0 Hz")
+        if self.f_high_hz is not None:
+            if not (math.isfinite(self.f_high_hz) and self.f_high_hz > self.f_low_hz):
+                raise DesignError(
+                    "band.f_high",
+                    self.f_high_hz,
+                    f"an upper band edge above f_low = {self.f_low_hz:g} Hz",
+                )
+
+
+@dataclass(frozen=True)
+class Chain:
+    """Sensor → analog stages → ADC (with reference) → digital filtering.
+
+    Parameters
+    ----------
+    sensor : Sensor
+    stages : tuple of analog stages
+        Gain stages and filters in signal order.
+    adc : ADC
+    reference : Reference, optional
+        Without one, reference noise is not counted (say so in a report).
+    digital : DigitalPath, optional
+        For a delta-sigma ADC its first stage is the decimation filter, running at
+        the modulator rate with output at the ADC's data rate; later stages
+        (averaging, a band limit) run at the rate before them.
+    temperature_k : float
+        Temperature of the electronics, K.
+    """
+
+    sensor: Sensor
+    stages: tuple[AnalogStage, ...]
+    adc: ADC
+    reference: Reference | None = None
+    digital: DigitalPath | None = None
+    temperature_k: float = ROOM_TEMPERATURE_K
+
+    def __post_init__(self) -> None:
+        check_positive("temperature", self.temperature_k, "a temperature above 0 K")
+        object.__setattr__(self, "stages", tuple(self.stages))
+        adc = self.adc
+        if self.digital is not None:
+            if not math.isclose(self.digital.sample_rate_hz, adc.sample_rate_hz, rel_tol=1e-9):
+                raise DesignError(
+                    "digital_filter[0].input_rate",
+                    self.digital.sample_rate_hz,
+                    f"the ADC sample rate {adc.sample_rate_hz:g} Hz",
+                )
+        if adc.architecture == "delta-sigma":
+            first = self.digital.stages[0] if self.digital else None
+            if not isinstance(first, SincFilter):
+                raise DesignError(
+                    "digital_filter",
+                    "none" if first is None else type(first).__name__,
+                    "a sinc decimation filter as the first digital stage of a delta-sigma ADC",
+                )
+            if not math.isclose(first.output_rate_hz, adc.output_rate_hz, rel_tol=1e-6):
+                raise DesignError(
+                    "digital_filter[0].length",
+                    first.length,
+                    f"a decimation ratio giving the ADC data rate {adc.output_rate_hz:g} Hz "
+                    f"from {adc.sample_rate_hz:g} Hz",
+                )
+
+    @property
+    def sensor_temperature_k(self) -> float:
+        t = self.sensor.temperature_k
+        return self.temperature_k if t is None else t
+
+    def gain_before(self, index: int) -> float:
+        """DC gain from the sensor to the input of stage ``index``, V/V."""
+        g = 1.0
+        for stage in self.stages[:index]:
+            g *= stage.gain
+        return g
+
+    @property
+    def total_gain(self) -> float:
+        """DC gain from the sensor to the ADC input, V/V."""
+        return self.gain_before(len(self.stages))
+
+    def responses_from(self, index: int):
+        """Analog responses from stage ``index`` (inclusive) to the ADC."""
+        out = []
+        for stage in self.stages[index:]:
+            out.extend(stage.responses)
+        return tuple(out)
+
+    def resistance_seen_by(self, index: int) -> float:
+        """DC source resistance at the input of stage ``index``, Ω.
+
+        The sensor's resistance, plus the series resistors of passive filters in
+        between; an active stage's output resets it to zero. A filter capacitor's
+        shunting at high frequency is neglected, which overstates current noise.
+        """
+        r = self.sensor.resistance_ohm
+        for stage in self.stages[:index]:
+            r = stage.output_resistance_ohm + (r if stage.output_resistance_ohm else 0.0)
+        return r
+
+    @property
+    def post_stages(self) -> tuple:
+        """Digital stages after the ADC's own output (averaging, band limits)."""
+        if self.digital is None:
+            return ()
+        skip = 1 if self.adc.architecture == "delta-sigma" else 0
+        return self.digital.stages[skip:]
+
+    @property
+    def output_rate_hz(self) -> float:
+        """Rate of the final results, Hz."""
+        return self.digital.output_rate_hz if self.digital else self.adc.output_rate_hz
+
+    def post_variance_factor(self) -> float:
+        """How the post stages scale the variance of noise white from sample to sample.
+
+        (2/ODR)·∫₀^{ODR/2} |H_post|² df; 1/N for an N-sample average (Parseval).
+        """
+        post = self.post_stages
+        if not post:
+            return 1.0
+        path = DigitalPath(tuple(post))
+        rate = path.sample_rate_hz
+        f_low = rate * 1e-9
+        nb = noise_bandwidth((), path, f_low, folded_source=True)
+        return (2.0 / rate) * (nb.white_hz + f_low)
+
+    def check_reference_density(self) -> None:
+        ref = self.reference
+        if ref is None or ref.noise is None or ref.ratiometric:
+            return
+        if not ref.responses and self.digital is None:
+            raise ChainError(
+                "reference.filter_cutoff",
+                None,
+                "a reference filter (or a digital filter) to bound the reference noise band",
+            )
+
+
+def describe_reference(reference: Reference | None) -> str:
+    if reference is None:
+        return "no reference given: reference noise not counted"
+    if reference.ratiometric:
+        return "ratiometric: reference noise cancels to first order"
+    return "evaluated at the largest ADC input the sensor produces"
