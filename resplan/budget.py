@@ -91,6 +91,10 @@ class Contribution:
     corner_hz: float | None = None
     noise_bandwidth_hz: float | None = None
     note: str = ""
+    #: Analog responses between its entry point and the ADC (for spectra and figures).
+    responses: tuple = field(default=(), repr=False, compare=False)
+    #: DC gain from the sensor to its entry point, V/V.
+    gain_in_front: float = 1.0
 
 
 @dataclass(frozen=True)
@@ -304,12 +308,13 @@ class _Collector:
         kind: str,
         noise: NoiseDensity,
         gain_in_front: float,
-        nb: NoiseBandwidth,
+        responses: tuple,
         note: str = "",
     ) -> None:
-        """A density entering after ``gain_in_front`` of gain."""
+        """A density entering after ``gain_in_front`` of gain, filtered by ``responses``."""
         if noise.white == 0:
             return
+        nb = self.bandwidth(responses, stage)
         rms_at_entry = nb.rms(noise.white, noise.corner_hz)
         rti = rms_at_entry / gain_in_front
         self.items.append(
@@ -323,6 +328,8 @@ class _Collector:
                 corner_hz=noise.corner_hz,
                 noise_bandwidth_hz=nb.white_hz,
                 note=note,
+                responses=tuple(responses),
+                gain_in_front=gain_in_front,
             )
         )
 
@@ -374,18 +381,18 @@ def forward_budget(
     t_sensor = chain.sensor_temperature_k
     warnings: list[str] = []
 
-    nb = c.bandwidth(chain.responses_from(0), sensor.name)
+    path = chain.responses_from(0)
     c.density(
         "thermal noise of source resistance",
         sensor.name,
         "thermal",
         NoiseDensity(float(thermal_noise_density(sensor.resistance_ohm, t_sensor))),
         1.0,
-        nb,
+        path,
         f"√(4kTR) at {t_sensor:.2f} K",
     )
     if sensor.noise is not None:
-        c.density("sensor's own noise", sensor.name, "sensor", sensor.noise, 1.0, nb)
+        c.density("sensor's own noise", sensor.name, "sensor", sensor.noise, 1.0, path)
 
     for i, stage in enumerate(chain.stages):
         _stage_contributions(c, i, stage, t)
@@ -428,21 +435,21 @@ def forward_budget(
 def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> None:
     chain = c.chain
     g_in = chain.gain_before(i)
-    nb = c.bandwidth(chain.responses_from(i), stage.name)
+    path = chain.responses_from(i)
     r_seen = chain.resistance_seen_by(i)
 
     def thermal(resistance: float) -> NoiseDensity:
         return NoiseDensity(float(thermal_noise_density(resistance, temperature_k)))
 
     if isinstance(stage, NonInvertingStage):
-        c.density("e_n", stage.name, "voltage", stage.en, g_in, nb)
+        c.density("e_n", stage.name, "voltage", stage.en, g_in, path)
         c.density(
             "i_n+ · R_source",
             stage.name,
             "current",
             stage.in_plus.scaled(r_seen),
             g_in,
-            nb,
+            path,
             f"into {r_seen:.4g} Ω",
         )
         rp = stage.feedback_parallel_ohm
@@ -454,12 +461,12 @@ def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> 
                 "current",
                 i_minus.scaled(rp),
                 g_in,
-                nb,
+                path,
                 f"into {rp:.4g} Ω",
             )
-            c.density("thermal noise of RF‖RG", stage.name, "thermal", thermal(rp), g_in, nb)
+            c.density("thermal noise of RF‖RG", stage.name, "thermal", thermal(rp), g_in, path)
     elif isinstance(stage, IntegratedAmplifier):
-        c.density("input noise", stage.name, "voltage", stage.input_noise, g_in, nb)
+        c.density("input noise", stage.name, "voltage", stage.input_noise, g_in, path)
         if stage.output_noise is not None:
             c.density(
                 "output noise / G",
@@ -467,7 +474,7 @@ def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> 
                 "voltage",
                 stage.output_noise.scaled(1.0 / stage.gain),
                 g_in,
-                nb,
+                path,
             )
         if stage.current_noise is not None:
             c.density(
@@ -476,7 +483,7 @@ def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> 
                 "current",
                 stage.current_noise.scaled(r_seen),
                 g_in,
-                nb,
+                path,
                 f"into {r_seen:.4g} Ω",
             )
     elif isinstance(stage, RCFilter):
@@ -486,7 +493,7 @@ def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> 
             "thermal",
             thermal(stage.resistance_ohm),
             g_in,
-            nb,
+            path,
             "filtered by its own pole (kT/C)",
         )
     elif isinstance(stage, ActiveFilter):
@@ -497,10 +504,10 @@ def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> 
                 "thermal",
                 thermal(stage.noise_resistance_ohm),
                 g_in,
-                nb,
+                path,
             )
         if stage.en is not None:
-            c.density("e_n", stage.name, "voltage", stage.en, g_in, nb)
+            c.density("e_n", stage.name, "voltage", stage.en, g_in, path)
 
 
 def _reference_contribution(c: _Collector, chain: Chain, band: Band) -> None:

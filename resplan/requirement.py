@@ -40,6 +40,11 @@ class Requirement:
         layout and grounding, not by the choice of parts.
     description : str
         The requirement as the user stated it, for reports.
+    engineering_unit : str
+        Unit of the measurand (such as ``"kg"``) when the requirement was stated in it.
+    engineering_per_volt : float, optional
+        Measurand per volt at the sensor output (capacity/span), to show noise in
+        engineering units.
 
     Examples
     --------
@@ -54,6 +59,8 @@ class Requirement:
     coverage: float = DEFAULT_COVERAGE
     interference_rms_v: float = 0.0
     description: str = ""
+    engineering_unit: str = ""
+    engineering_per_volt: float | None = None
 
     def __post_init__(self) -> None:
         check_positive("requirement.span", self.span_v, "a span > 0 V")
