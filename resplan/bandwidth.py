@@ -326,12 +326,15 @@ def _integrate_folded(psd, analog, digital, f_low, grid_points, folded_source):
         for f in (m * fs - mid, m * fs + mid):
             total = total + np.sum(psd(f) * _analog_power_gain(analog, f) * weight, axis=-1)
     start = (exact_images + 0.5) * fs
+    # Mean of |H_d|² over a full period, from the same grid (0…f_low taken as gain 1).
+    mean_gain = (2.0 / fs) * (float(np.sum(weight)) + f_low)
     if start < top:
-        # Mean of |H_d|² over a full period, from the same grid (0…f_low taken as gain 1).
-        mean_gain = (2.0 / fs) * (float(np.sum(weight)) + f_low)
         far = _integrate_analog(psd, analog, start, None, max(200, grid_points // 4))
-        total = total + mean_gain * far
-    return total
+    else:
+        # The exact images already reach past the analog top: only the power-law tail is left.
+        at_start = psd(np.array([start]))[..., 0] * _analog_power_gain(analog, np.array([start]))[0]
+        far = _power_law_tail(start, at_start, order)
+    return total + mean_gain * far
 
 
 @lru_cache(maxsize=1024)
