@@ -529,8 +529,7 @@ def _reference_contribution(c: _Collector, chain: Chain, band: Band) -> None:
         return
     if ref.noise is None or ref.noise.white == 0:
         return
-    chain.check_reference_density()
-    nb = c.bandwidth(ref.responses, name)
+    nb = chain.reference_bandwidth(band.f_low_hz, c.grid_points)
     sigma_ref = nb.rms(ref.noise.white, ref.noise.corner_hz)
     # Error at the ADC input: V_in·σ_ref/V_ref, at the largest input the sensor produces.
     peak_at_adc = chain.sensor.peak_v * chain.total_gain

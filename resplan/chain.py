@@ -7,7 +7,7 @@ from dataclasses import dataclass
 
 from .bandwidth import DigitalPath, noise_bandwidth
 from .converter import ADC
-from .errors import ChainError, DesignError
+from .errors import DesignError
 from .responses import SincFilter
 from .stages import AnalogStage, Reference, Sensor, check_positive
 
@@ -162,16 +162,23 @@ class Chain:
         nb = noise_bandwidth((), path, f_low, folded_source=True)
         return (2.0 / rate) * (nb.white_hz + f_low)
 
-    def check_reference_density(self) -> None:
+    def reference_bandwidth(self, f_low_hz: float, grid_points: int = 2000):
+        """Noise bandwidth of the reference path: its filter, then the digital filtering.
+
+        The ADC samples its reference, so reference noise aliases like input noise.
+        Without a reference filter the density is taken as flat up to half the sample
+        rate and zero above (the reference's output capacitor limits it; say so).
+        """
         ref = self.reference
-        if ref is None or ref.noise is None or ref.ratiometric:
-            return
-        if not ref.responses and self.digital is None:
-            raise ChainError(
-                "reference.filter_cutoff",
-                None,
-                "a reference filter (or a digital filter) to bound the reference noise band",
+        if ref is not None and ref.responses:
+            return noise_bandwidth(ref.responses, self.digital, f_low_hz, grid_points=grid_points)
+        if self.digital is None:
+            return noise_bandwidth(
+                (), None, f_low_hz, f_high_hz=self.adc.sample_rate_hz / 2, grid_points=grid_points
             )
+        return noise_bandwidth(
+            (), self.digital, f_low_hz, grid_points=grid_points, folded_source=True
+        )
 
 
 def describe_reference(reference: Reference | None) -> str:
@@ -179,4 +186,9 @@ def describe_reference(reference: Reference | None) -> str:
         return "no reference given: reference noise not counted"
     if reference.ratiometric:
         return "ratiometric: reference noise cancels to first order"
+    if not reference.responses:
+        return (
+            "evaluated at the largest ADC input the sensor produces; no reference filter: "
+            "its density taken as flat to half the sample rate"
+        )
     return "evaluated at the largest ADC input the sensor produces"
