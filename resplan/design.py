@@ -117,6 +117,10 @@ class Design:
         Allocation weights by part name, from the design file.
     alias_interferer : tuple of (frequency_hz, rms_v) or None
         An interferer the anti-alias filter must suppress, at the sensor.
+    notes : tuple of str
+        Conversions and assumptions made while reading the design (a peak-to-peak
+        figure divided by its stated factor, a range taken from the reference ...),
+        for reports.
     """
 
     meta: Meta
@@ -132,6 +136,7 @@ class Design:
     sha256: str = ""
     weights: dict[str, float] = field(default_factory=dict)
     alias_interferer: tuple[float, float] | None = None
+    notes: tuple[str, ...] = ()
 
     @property
     def open_parts(self) -> tuple[OpenPart, ...]:
