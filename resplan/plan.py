@@ -29,6 +29,7 @@ from .chain import Chain
 from .converter import ADC, NoiseAtRate, SnrNoise, TransitionNoise
 from .design import Design, OpenPart
 from .errors import ChainError, DesignError, DesignErrors
+from .formatting import format_si
 from .physics import BOLTZMANN_J_PER_K, enob_from_sinad, noise_rms_to_snr
 from .resolution import sine_rms
 from .responses import AnalogLowpass, SincFilter
@@ -39,6 +40,15 @@ from .stages import (
     NonInvertingStage,
     Reference,
 )
+
+
+def _v(value: float) -> str:
+    return format_si(value, "V")
+
+
+def _ohm(value: float) -> str:
+    return format_si(value, "Ω")
+
 
 __all__ = [
     "Allocation",
@@ -434,8 +444,8 @@ def plan_design(
     feasible = remaining_var > 0
     if req.interference_rms_v >= req.allowed_total_rms_v:
         reasons.append(
-            f"the interference allowance ({req.interference_rms_v:.4g} V rms) uses up the whole "
-            f"allowed noise ({req.allowed_total_rms_v:.4g} V rms)"
+            f"the interference allowance ({_v(req.interference_rms_v)} rms) uses up the whole "
+            f"allowed noise ({_v(req.allowed_total_rms_v)} rms)"
         )
         feasible = False
     elif not feasible:
@@ -509,21 +519,22 @@ def _standing_assumptions(design: Design, budget: Budget) -> list[str]:
         f"reference: {budget.reference_note}",
     ]
     out.extend(budget.warnings)
+    out.extend(getattr(design, "notes", ()))
     return out
 
 
 def _infeasible_reasons(fixed: tuple[Contribution, ...], fixed_var: float, allowed: float) -> list:
     total = math.sqrt(fixed_var)
     reasons = [
-        f"the fixed parts alone give {total:.4g} V rms at the sensor, "
-        f"{total / allowed:.3g} times the {allowed:.4g} V rms allowed"
+        f"the fixed parts alone give {_v(total)} rms at the sensor, "
+        f"{total / allowed:.3g} times the {_v(allowed)} rms allowed"
         if allowed > 0
         else "nothing is left for noise once the interference allowance is reserved"
     ]
     for c in fixed:
         if c.rms_v**2 >= 0.05 * fixed_var:
             reasons.append(
-                f"  {c.stage}: {c.name} {c.rms_v:.4g} V rms ({c.rms_v**2 / fixed_var:.0%} of it)"
+                f"  {c.stage}: {c.name} {_v(c.rms_v)} rms ({c.rms_v**2 / fixed_var:.0%} of it)"
             )
     return reasons
 
@@ -576,7 +587,7 @@ def _amplifier_rows(slot: _Slot, var: float, chain: Chain, design: Design, band,
             PartRequirement(
                 part.name,
                 part.field_path,
-                f"current noise i_n into {r_seen:.4g} Ω (voltage noise negligible)",
+                f"current noise i_n into {_ohm(r_seen)} (voltage noise negligible)",
                 in_max,
                 "A/√Hz",
                 "max",
@@ -591,7 +602,7 @@ def _amplifier_rows(slot: _Slot, var: float, chain: Chain, design: Design, band,
                 "V/√Hz",
                 "max",
                 f"with i_n ≤ {in_max / math.sqrt(2):.3g} A/√Hz; optimum source resistance "
-                f"e_n/i_n = {r_seen:.4g} Ω",
+                f"e_n/i_n = {_ohm(r_seen)}",
                 "each term σ²/2",
             ),
         ]
@@ -651,7 +662,7 @@ def _alias_rows(part: OpenPart, stage: ActiveFilter, chain: Chain, design: Desig
     top = _signal_band_top(design)
     if design.alias_interferer is not None:
         f_i, amplitude = design.alias_interferer
-        source = f"stated interferer {amplitude:.4g} V rms at {f_i:g} Hz (at the sensor)"
+        source = f"stated interferer {_v(amplitude)} rms at {f_i:g} Hz (at the sensor)"
     else:
         f_i, amplitude = fs - top, sine_rms(req.span_v)
         source = (
@@ -683,7 +694,7 @@ def _alias_rows(part: OpenPart, stage: ActiveFilter, chain: Chain, design: Desig
             filter_db,
             "dB",
             "min",
-            f"{source}; residue ≤ {residue:.3g} V rms ({residue_text}); digital filter and "
+            f"{source}; residue ≤ {_v(residue)} rms ({residue_text}); digital filter and "
             f"other stages give {helped_db:.1f} dB of the {needed_db:.1f} dB",
             "A = 20·log10(A_i/residue) − A_digital − A_other",
         )
@@ -771,7 +782,7 @@ def _reference_rows(slot: _Slot, var: float, chain: Chain, design: Design, band,
             sigma_ref,
             "V",
             "max",
-            f"evaluated at the largest input ({peak:.4g} V at the sensor); {_band_text(nb)}",
+            f"evaluated at the largest input ({_v(peak)} at the sensor); {_band_text(nb)}",
             "σ_ref = σ_share · V_ref / V_in,max",
         ),
         PartRequirement(
@@ -932,7 +943,7 @@ def _gain_rows(slots, chain: Chain, design: Design, fixed, allowed: float, reaso
             g_max,
             "V/V",
             "max",
-            f"sensor span {design.sensor.span_v:.4g} V into {chain.adc.full_scale_range_v:g} V "
+            f"sensor span {_v(design.sensor.span_v)} into {chain.adc.full_scale_range_v:g} V "
             "full-scale range",
             "G_max = FSR / (span · other gains)",
         )
@@ -1005,7 +1016,7 @@ def _levers(design, chain, budget, fixed, fixed_var, req, band, grid_points) -> 
             "larger span",
             span_needed,
             "V",
-            f"a sensor span of at least {span_needed:.4g} V (now {req.span_v:.4g} V) with the "
+            f"a sensor span of at least {_v(span_needed)} (now {_v(req.span_v)}) with the "
             "same noise at the sensor",
         )
     )
@@ -1020,7 +1031,7 @@ def _levers(design, chain, budget, fixed, fixed_var, req, band, grid_points) -> 
                 "lower source resistance",
                 r * room_s / thermal_s,
                 "Ω",
-                f"a source resistance of at most {r * room_s / thermal_s:.4g} Ω (now {r:.4g} Ω), "
+                f"a source resistance of at most {_ohm(r * room_s / thermal_s)} (now {_ohm(r)}), "
                 "thermal noise only; current-noise terms fall too",
             )
         )
