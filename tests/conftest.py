@@ -11,6 +11,8 @@ asks for ``bridge_chain`` and calls ``bridge_chain(adc=...)``.
 
 from __future__ import annotations
 
+from dataclasses import fields
+
 import pytest
 
 from resplan import (
@@ -44,7 +46,7 @@ INVENTED_DATA_RATE_HZ = 10.0
 
 
 def _chain(defaults: dict, overrides: dict) -> Chain:
-    unknown = set(overrides) - set(defaults)
+    unknown = set(overrides) - {f.name for f in fields(Chain)}
     if unknown:
         raise TypeError(f"unknown chain field(s): {', '.join(sorted(unknown))}")
     return Chain(**{**defaults, **overrides})
