@@ -1,0 +1,252 @@
+"""The resplan command line: thin click commands that parse, call the library, format.
+
+Exit codes
+----------
+0  success; for ``check``, the requirement is met
+1  ``check``: the design is valid but does not meet its requirement
+2  bad input: any :class:`resplan.errors.ResplanError` (one line per problem on
+   stderr, never a traceback) and click's usage errors
+
+Heavy modules (pydantic, pint, the budget) are imported inside the commands so
+that ``resplan --help`` stays fast; matplotlib, reportlab and scipy are never
+imported on the ``check`` path.
+
+Adding a command: write it below the marked place with ``@main.command()``, load
+its design with :func:`load_design_or_exit`, wrap library calls in
+:func:`exit_on_error`, print data with :func:`emit_json`.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import json
+import os
+import sys
+import tempfile
+from collections.abc import Iterator
+from pathlib import Path
+from typing import TYPE_CHECKING, Any, NoReturn
+
+import click
+
+from . import __version__
+from .errors import ResplanError
+
+if TYPE_CHECKING:  # pragma: no cover
+    from .design import Design
+
+__all__ = [
+    "main",
+    "fail",
+    "exit_on_error",
+    "load_design_or_exit",
+    "emit_json",
+    "wants_ascii",
+    "write_text_atomic",
+    "EXIT_OK",
+    "EXIT_NOT_MET",
+    "EXIT_BAD_INPUT",
+]
+
+EXIT_OK = 0
+EXIT_NOT_MET = 1
+EXIT_BAD_INPUT = 2
+
+_CONTEXT = {"help_option_names": ["-h", "--help"], "max_content_width": 100}
+
+
+# ---------------------------------------------------------------------------
+# helpers shared by every command
+
+
+def fail(lines: str | list[str]) -> NoReturn:
+    """Print each problem as one ``error:`` line on stderr and exit with code 2."""
+    if isinstance(lines, str):
+        lines = lines.splitlines() or [lines]
+    for line in lines:
+        click.echo(f"error: {line}", err=True)
+    sys.exit(EXIT_BAD_INPUT)
+
+
+@contextlib.contextmanager
+def exit_on_error() -> Iterator[None]:
+    """Turn any :class:`ResplanError` raised inside into ``error:`` lines and exit 2."""
+    try:
+        yield
+    except ResplanError as err:
+        fail(str(err))
+
+
+def load_design_or_exit(path: str) -> Design:
+    """Load a design file, or print its problems (one per line) and exit 2."""
+    from .designfile import load_design
+
+    with exit_on_error():
+        return load_design(path)
+    raise AssertionError("unreachable")  # pragma: no cover
+
+
+def wants_ascii(flag: bool = False) -> bool:
+    """ASCII output when asked, or when stdout cannot encode µ, Ω, √ and °."""
+    if flag:
+        return True
+    encoding = getattr(sys.stdout, "encoding", None) or "ascii"
+    try:
+        "µΩ√°±·×…∞−".encode(encoding)
+    except (UnicodeEncodeError, LookupError):
+        return True
+    return False
+
+
+def emit_json(data: Any) -> None:
+    """Print data as JSON: stable key order, no NaN or inf (they must be made safe first)."""
+    click.echo(json.dumps(data, indent=2, allow_nan=False, ensure_ascii=wants_ascii()))
+
+
+def write_text_atomic(path: Path, text: str, *, force: bool = False) -> None:
+    """Write ``text`` to ``path`` through a temporary file in the same folder and a rename.
+
+    Never leaves a half-written file; refuses to replace an existing file unless ``force``.
+
+    Raises
+    ------
+    click.ClickException
+        Handled by the callers: they turn it into one ``error:`` line.
+    """
+    folder = path.parent if str(path.parent) else Path(".")
+    if not folder.is_dir():
+        raise FileNotFoundError(f"{folder}: no such folder")
+    if path.exists() and not force:
+        raise FileExistsError(f"{path}: exists; use --force to overwrite it")
+    if path.is_dir():
+        raise IsADirectoryError(f"{path}: is a folder")
+    fd, tmp = tempfile.mkstemp(dir=folder, prefix=f".{path.name}.", suffix=".tmp")
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as handle:
+            handle.write(text)
+            handle.flush()
+            os.fsync(handle.fileno())
+        os.replace(tmp, path)
+    except BaseException:
+        with contextlib.suppress(OSError):
+            os.unlink(tmp)
+        raise
+
+
+# ---------------------------------------------------------------------------
+# the group
+
+
+@click.group(context_settings=_CONTEXT)
+@click.version_option(__version__, "-V", "--version", prog_name="resplan")
+def main() -> None:
+    """Plan the resolution of a measurement signal chain: noise budgets with sources.
+
+    \b
+    Start from an example, edit it, check it:
+      resplan init --list
+      resplan init --example hive-scale my-scale.toml
+      resplan check my-scale.toml          # exit 0 meets, 1 does not, 2 bad input
+      resplan check my-scale.toml --json   # the same as JSON
+      resplan schema > resplan-schema.json # for editor completion
+
+    The numbers are estimates from typical data; verify on the bench. Sensors on
+    mains or high voltage need isolation and protection that no noise budget
+    decides: follow local codes and licensed practice.
+    """
+
+
+@main.command()
+@click.argument("path", required=False, type=click.Path(dir_okay=False, path_type=Path))
+@click.option(
+    "--example",
+    "-e",
+    "name",
+    default=None,
+    metavar="NAME",
+    help="Example to write (default hive-scale); see --list.",
+)
+@click.option("--list", "list_only", is_flag=True, help="List the examples and exit.")
+@click.option("--force", "-f", is_flag=True, help="Overwrite PATH if it exists.")
+def init(path: Path | None, name: str | None, list_only: bool, force: bool) -> None:
+    """Write an embedded example as a commented design file to PATH.
+
+    PATH defaults to NAME.toml in the current folder. An existing file is never
+    replaced without --force; the file is written whole or not at all.
+
+    \b
+    Examples:
+      resplan init                               # writes hive-scale.toml
+      resplan init --example soil-temperature logger.toml
+      resplan init --list
+    """
+    from .examples import DEFAULT_EXAMPLE, example_text, list_examples
+
+    if list_only:
+        items = list_examples()
+        width = max(len(n) for n, _ in items)
+        for example, description in items:
+            click.echo(f"{example.ljust(width)}  {description}")
+        return
+    name = name or DEFAULT_EXAMPLE
+    with exit_on_error():
+        text = example_text(name)
+    target = path or Path(f"{name}.toml")
+    try:
+        write_text_atomic(target, text, force=force)
+    except (FileExistsError, FileNotFoundError, IsADirectoryError) as err:
+        fail(str(err))
+    except OSError as err:
+        fail(f"{target}: cannot write ({err.strerror or err})")
+    click.echo(f"wrote {target} (example {name}); check it with: resplan check {target}")
+
+
+@main.command()
+@click.argument("design", metavar="DESIGN")
+@click.option("--json", "as_json", is_flag=True, help="Print the budget as JSON.")
+@click.option(
+    "--ascii", "ascii_only", is_flag=True, help="Write units in ASCII (u, ohm, rtHz, degC)."
+)
+def check(design: str, as_json: bool, ascii_only: bool) -> None:
+    """Check a complete design against its requirement: the forward noise budget.
+
+    Prints every noise contributor referred to the sensor, the resolution over
+    the sensor span and the ADC range, the requirement, the margin and a verdict.
+    Exit status: 0 meets, 1 does not meet, 2 bad input (one line per problem).
+
+    \b
+    Examples:
+      resplan check hive-scale.toml
+      resplan check hive-scale.toml --json | python3 -m json.tool
+      resplan check design.toml || echo "review needed"
+    """
+    from .designfile import check_design
+    from .textreport import check_data, format_budget
+
+    loaded = load_design_or_exit(design)
+    with exit_on_error():
+        budget = check_design(loaded)
+    if as_json:
+        emit_json(check_data(budget, loaded))
+    else:
+        click.echo(format_budget(budget, loaded, ascii_only=wants_ascii(ascii_only)))
+    sys.exit(EXIT_OK if budget.meets_requirement else EXIT_NOT_MET)
+
+
+@main.command()
+def schema() -> None:
+    """Print the JSON Schema of design files (for editor completion and checks).
+
+    \b
+    Example:
+      resplan schema > resplan-design.schema.json
+    """
+    from .designfile import design_schema
+
+    emit_json(design_schema())
+
+
+# ---------------------------------------------------------------------------
+# More commands (plan, report) are added below with @main.command(); use
+# load_design_or_exit, exit_on_error and emit_json so that they keep the same
+# exit codes and one-line errors.
