@@ -46,6 +46,8 @@ _RESOLVED_PERIODS = 32
 #: The analog product is integrated up to this multiple of its highest corner,
 #: then an exact power-law tail is added.
 _ANALOG_TOP_FACTOR = 1e3
+#: An image whose share of the running total is below this ends the exact folding early.
+_NEGLIGIBLE_IMAGE = 1e-10
 
 
 @dataclass(frozen=True)
@@ -323,8 +325,14 @@ def _integrate_folded(psd, analog, digital, f_low, grid_points, folded_source):
     exact_images = int(min(math.ceil(top / fs), 4 * order + 8))
     total = np.sum(psd(mid) * _analog_power_gain(analog, mid) * weight, axis=-1)
     for m in range(1, exact_images + 1):
+        image = 0.0
         for f in (m * fs - mid, m * fs + mid):
-            total = total + np.sum(psd(f) * _analog_power_gain(analog, f) * weight, axis=-1)
+            image = image + np.sum(psd(f) * _analog_power_gain(analog, f) * weight, axis=-1)
+        total = total + image
+        if np.all(image <= _NEGLIGIBLE_IMAGE * np.abs(total)):
+            # A steep analog product: what lies beyond is left to the period-mean part.
+            exact_images = m
+            break
     start = (exact_images + 0.5) * fs
     # Mean of |H_d|² over a full period, from the same grid (0…f_low taken as gain 1).
     mean_gain = (2.0 / fs) * (float(np.sum(weight)) + f_low)
