@@ -41,6 +41,11 @@ def _positive(field: str, value: float, what: str) -> None:
         raise DesignError(field, value, what)
 
 
+def _not_whole(value) -> bool:
+    # bool is an int subclass: True must not pass for an order or a length of 1.
+    return isinstance(value, bool) or not isinstance(value, int)
+
+
 def butterworth_enbw_ratio(order: int) -> float:
     r"""ENBW of an n-th order Butterworth low-pass divided by its −3 dB frequency.
 
@@ -226,9 +231,9 @@ class SincFilter:
     input_rate_hz: float
 
     def __post_init__(self) -> None:
-        if not isinstance(self.order, int) or not 1 <= self.order <= 5:
+        if _not_whole(self.order) or not 1 <= self.order <= 5:
             raise DesignError("digital_filter.order", self.order, "a sinc order from 1 to 5")
-        if not isinstance(self.length, int) or self.length < 1:
+        if _not_whole(self.length) or self.length < 1:
             raise DesignError("digital_filter.length", self.length, "a whole number of samples ≥ 1")
         _positive("digital_filter.input_rate", self.input_rate_hz, "a sample rate > 0 Hz")
 

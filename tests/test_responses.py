@@ -302,6 +302,8 @@ def test_ideal_lowpass_is_periodic_and_folds():
         (lambda: SincFilter(6, 64, 64e3), "digital_filter.order", "sinc order from 1 to 5"),
         (lambda: SincFilter(3, 0, 64e3), "digital_filter.length", "≥ 1"),
         (lambda: SincFilter(3, 6.4, 64e3), "digital_filter.length", "≥ 1"),
+        (lambda: SincFilter(True, 64, 64e3), "digital_filter.order", "sinc order from 1 to 5"),
+        (lambda: SincFilter(3, True, 64e3), "digital_filter.length", "≥ 1"),
         (lambda: SincFilter(3, 64, 0.0), "digital_filter.input_rate", "> 0 Hz"),
         (lambda: SincFilter(3, 64, math.nan), "digital_filter.input_rate", "> 0 Hz"),
         (lambda: IdealLowpass(30e3, 50e3), "band.f_high", "half the sample rate"),
