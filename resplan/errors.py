@@ -19,9 +19,21 @@ __all__ = [
 ]
 
 
+#: Control characters written as escapes, so that a message stays on one line.
+_CONTROL = {c: repr(chr(c))[1:-1] for c in (*range(32), 127)}
+
+
 def describe_value(value: Any) -> str:
-    """Render a user-given value for an error message, shortened if long."""
-    text = repr(value) if not isinstance(value, str) else f'"{value}"'
+    r"""Render a user-given value for an error message: one line, shortened if long.
+
+    Examples
+    --------
+    >>> describe_value("4.5 nV")
+    '"4.5 nV"'
+    >>> describe_value("a\nb")
+    '"a\\nb"'
+    """
+    text = repr(value) if not isinstance(value, str) else f'"{value.translate(_CONTROL)}"'
     return text if len(text) <= 60 else text[:57] + "..."
 
 
