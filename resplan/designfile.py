@@ -479,13 +479,23 @@ _TYPE_WORDS = {
 }
 
 
+_BARE_KEY = re.compile(r"^[A-Za-z0-9_-]+$")
+
+
+def _key(name: Any) -> str:
+    """A key as TOML would write it: bare when it can be, else quoted."""
+    text = str(name)
+    return text if _BARE_KEY.match(text) else json.dumps(text, ensure_ascii=False)
+
+
 def _path(loc: typing.Sequence[Any]) -> str:
+    """``("stages", 1, "en")`` → ``"stages[1].en"``."""
     out = ""
     for part in loc:
         if isinstance(part, int):
             out += f"[{part}]"
         else:
-            out += ("." if out else "") + str(part)
+            out += ("." if out else "") + _key(part)
     return out
 
 
@@ -1501,7 +1511,7 @@ def _weights(r: _Reader, t: PlanTable | None, names: list[str]) -> dict[str, flo
     if t is None or t.weights is None:
         return out
     for name, value in t.weights.items():
-        path = f'plan.weights."{name}"'
+        path = f"plan.weights.{_key(name)}"
         if name not in names:
             hint = difflib.get_close_matches(name, names, n=1, cutoff=0.6)
             more = f' (did you mean "{hint[0]}"?)' if hint else ""
@@ -1533,10 +1543,7 @@ def design_from_mapping(
         Every problem found, one per line, each naming the field, the value and
         what was expected.
     """
-    try:
-        model = DesignFile.model_validate(data)
-    except ValidationError as err:
-        raise DesignErrors(_with_source(e, source) for e in _structure_errors(err, data)) from None
+    model, structure, reported = _validate_structure(data)
     r = _Reader(source)
     meta_t = model.meta or MetaTable()
     meta = Meta(
@@ -1572,10 +1579,18 @@ def design_from_mapping(
     parts.append(("adc", model.adc.name or "ADC"))
     _names(r, parts)
     weights = _weights(r, model.plan, [n for _, n in parts])
-    if r.errors or None in (requirement, sensor, adc, band, temperature) or None in stages:
-        if not r.errors:  # pragma: no cover - every None comes with a recorded problem
-            r.bad("design", "?", "a complete design")
-        raise DesignErrors(_with_source(e, source) for e in r.errors)
+    if (
+        structure
+        or r.errors
+        or None in (requirement, sensor, adc, band, temperature)
+        or (None in stages)
+    ):
+        # Problems inside a part already refused for its structure are not repeated.
+        later = [e for e in r.errors if not _under(e.field, reported)]
+        found = structure + later
+        if not found:  # pragma: no cover - every None comes with a recorded problem
+            found = [DesignError("design", "?", "a complete design")]
+        raise DesignErrors(_with_source(e, source) for e in found)
     stages = [_weighted(s, weights) for s in stages]
     reference = _weighted(reference, weights)
     adc = _weighted(adc, weights)
@@ -1601,6 +1616,75 @@ def design_from_mapping(
         except DesignError as err:
             raise DesignErrors([_with_source(err, source)]) from None
     return design
+
+
+#: Stand-in for a stage whose structure was refused, so the rest can still be read.
+_PLACEHOLDER_STAGE = {"type": "rc_filter", "open": True}
+_REQUIRED_TABLES = ("requirement", "sensor", "adc")
+
+
+def _validate_structure(data: Any) -> tuple[DesignFile, list[DesignError], list[str]]:
+    """Validate the structure; on problems, set the offending fields aside and go on.
+
+    Returns the model of what is left, the structure problems, and the paths of
+    the fields set aside (problems found under them later are not repeated).
+    """
+    errors: list[DesignError] = []
+    reported: list[str] = []
+    if not isinstance(data, Mapping):
+        data = {}
+        errors.append(DesignError("design", "?", "a TOML document of tables"))
+    work = _plain_copy(data)
+    for _ in range(8):
+        try:
+            return DesignFile.model_validate(work), errors, reported
+        except ValidationError as err:
+            errors.extend(_structure_errors(err, work))
+            for e in err.errors(include_url=False):
+                reported.append(_path(_set_aside(work, _strip_tags(tuple(e["loc"])))))
+    raise DesignErrors(errors)  # pragma: no cover - each round removes what it reports
+
+
+def _plain_copy(node: Any) -> Any:
+    if isinstance(node, Mapping):
+        return {k: _plain_copy(v) for k, v in node.items()}
+    if isinstance(node, list):
+        return [_plain_copy(v) for v in node]
+    return node
+
+
+def _set_aside(work: dict, loc: tuple) -> tuple:
+    """Remove (or neutralise) the field a structure error is about; return its location."""
+    if not loc:
+        return loc
+    table = loc[0]
+    if table == "stages" and len(loc) >= 2 and isinstance(loc[1], int):
+        at = loc[:3] if len(loc) >= 3 and isinstance(loc[2], str) and loc[2] != "type" else loc[:2]
+    else:
+        at = loc[:2] if len(loc) >= 2 and isinstance(loc[1], str) else loc[:1]
+    if len(at) == 1:
+        if table in _REQUIRED_TABLES:
+            work[table] = {}
+        else:
+            work.pop(table, None)
+        return at
+    if at[0] == "stages" and len(at) == 2:
+        stages = work.get("stages")
+        if isinstance(stages, list) and 0 <= at[1] < len(stages):
+            stages[at[1]] = dict(_PLACEHOLDER_STAGE)
+        return at
+    node: Any = work
+    for key in at[:-1]:
+        node = node[key] if isinstance(node, dict | list) else None
+    if isinstance(node, dict):
+        node.pop(at[-1], None)
+    return at
+
+
+def _under(field: str, prefixes: list[str]) -> bool:
+    return any(
+        field == p or field.startswith(p + ".") or field.startswith(p + "[") for p in prefixes
+    )
 
 
 def _weighted(part: Any, weights: dict[str, float]) -> Any:
