@@ -764,9 +764,24 @@ def _summary(w: _Writer, design: Design, budget: Budget | None, plan: Any) -> li
                 f"{_rms(req.allowed_noise_rms_v)} at the sensor, {_after_allowance(req)}",
             ],
             ["Coverage", _coverage_text(req.coverage, req.k_pp)],
-            ["Band", f"f_L = {format_si(design.band.f_low_hz, 'Hz')}"],
+            [
+                "Band",
+                f"f_L = {format_si(design.band.f_low_hz, 'Hz')} (bounds the 1/f noise); top of "
+                f"the signal band {_maybe_hz(design.band.f_high_hz)}",
+            ],
             ["Temperature", f"electronics {format_temperature(design.temperature_k)}"],
+            [
+                "Open parts",
+                "; ".join(f"{p.name} ({p.field_path}, {p.kind})" for p in design.open_parts),
+            ],
         ]
+        if plan is not None:
+            rows += [
+                ["Fixed by given parts", _rms(plan.fixed_rms_v) + " at the sensor"],
+                ["Left for the open parts", _rms(plan.remaining_rms_v) + " at the sensor"],
+            ]
+            if getattr(plan, "output_rate_hz", None):
+                rows.append(["Output data rate", format_si(plan.output_rate_hz, "Hz")])
     out.append(w.table(rows, [55, 115], header=False, label_column=True))
     if budget is not None and budget.warnings:
         out.append(w.p("Warnings from the budget:", w.h2))
