@@ -246,6 +246,11 @@ def integrate_psd(
         raise DesignError("band.f_high", f_high_hz, f"an upper band edge > f_low = {f_low_hz:g} Hz")
     if digital is None:
         return _integrate_analog(psd, analog, f_low_hz, f_high_hz, grid_points)
+    if f_high_hz is not None:
+        raise ValueError(
+            "f_high_hz applies to an analog-only integral; with a digital path put an "
+            "IdealLowpass stage in it"
+        )
     return _integrate_folded(psd, analog, digital, f_low_hz, grid_points, folded_source)
 
 

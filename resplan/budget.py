@@ -177,7 +177,8 @@ class Budget:
 
     @property
     def adc_enob(self) -> float:
-        """ENOB of the ADC alone (its own noise and quantisation), IEEE Std 1241."""
+        """ENOB of the ADC alone (its own noise and quantisation at its own data rate, before
+        any post-averaging), IEEE Std 1241."""
         return float(enob_from_sinad(noise_rms_to_snr(self.adc_alone_rms_v, self.adc_full_scale_v)))
 
     @property
@@ -297,8 +298,9 @@ class _Collector:
             raise ChainError(
                 where,
                 "no band limit",
-                "a bandwidth (gbw, bandwidth, a filter stage) or a digital filter that bounds "
-                f"the noise of {where}",
+                "an analog bandwidth (gbw, bandwidth or a filter stage) that bounds the noise "
+                f"of {where} before the ADC samples it (a digital filter cannot: white noise "
+                "aliases without end)",
             ) from err
 
     def density(
@@ -543,7 +545,11 @@ def _reference_contribution(c: _Collector, chain: Chain, band: Band) -> None:
 
 
 def _adc_contributions(c: _Collector, chain: Chain, band: Band, warnings: list[str]) -> float:
-    """Add the ADC's own noise and quantisation; return their total at its input, V rms."""
+    """Add the ADC's own noise and quantisation.
+
+    Returns their total at its input at the converter's own output rate (before any
+    post-averaging), V rms: what its ENOB is judged on.
+    """
     adc = chain.adc
     noise = adc.noise
     post = chain.post_variance_factor()
@@ -555,7 +561,7 @@ def _adc_contributions(c: _Collector, chain: Chain, band: Band, warnings: list[s
         own = rms * post_rms
         c.at_adc("converter noise", adc.name, "adc", own, how + after)
     elif isinstance(noise, SnrNoise):
-        rms, how = noise.rms(adc.full_scale_range_v, adc.sample_rate_hz)
+        rms, how = noise.rms(adc.full_scale_range_v, adc.output_rate_hz)
         own = rms * post_rms
         c.at_adc("converter noise", adc.name, "adc", own, how + after)
     elif isinstance(noise, TransitionNoise):
@@ -590,4 +596,4 @@ def _adc_contributions(c: _Collector, chain: Chain, band: Band, warnings: list[s
                     "noise at the ADC input is below 0.5 LSB rms per sample: averaging will not "
                     "reduce quantisation as counted (no dither)"
                 )
-    return math.sqrt(total_sq)
+    return math.sqrt(total_sq) / post_rms

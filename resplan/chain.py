@@ -149,18 +149,26 @@ class Chain:
         return self.digital.output_rate_hz if self.digital else self.adc.output_rate_hz
 
     def post_variance_factor(self) -> float:
-        """How the post stages scale the variance of noise white from sample to sample.
+        """How the digital post-filter scales the variance of the converter's own noise.
 
-        (2/ODR)·∫₀^{ODR/2} |H_post|² df; 1/N for an N-sample average (Parseval).
+        The converter's noise is taken as flat in density over its first Nyquist zone
+        (thermal noise of the modulator or of the SAR sampling): the factor is the
+        noise bandwidth of the whole digital path over that of the converter's own
+        output. For a SAR that is (2/f_s)·∫₀^{f_s/2} |H_post|² df, 1/N for an
+        N-sample average (Parseval); after a sinc^k decimator it is larger than 1/N,
+        because successive decimator outputs are correlated.
         """
-        post = self.post_stages
-        if not post:
+        if not self.post_stages:
             return 1.0
-        path = DigitalPath(tuple(post))
-        rate = path.sample_rate_hz
-        f_low = rate * 1e-9
-        nb = noise_bandwidth((), path, f_low, folded_source=True)
-        return (2.0 / rate) * (nb.white_hz + f_low)
+        fs = self.adc.sample_rate_hz
+        f_low = self.output_rate_hz * 1e-6
+        full = noise_bandwidth((), self.digital, f_low, folded_source=True).white_hz + f_low
+        if self.adc.architecture == "delta-sigma":
+            own_path = DigitalPath(self.digital.stages[:1])
+            own = noise_bandwidth((), own_path, f_low, folded_source=True).white_hz + f_low
+        else:
+            own = fs / 2
+        return full / own
 
     def reference_bandwidth(self, f_low_hz: float, grid_points: int = 2000):
         """Noise bandwidth of the reference path: its filter, then the digital filtering.

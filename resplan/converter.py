@@ -119,7 +119,10 @@ class NoiseTable:
 
 @dataclass(frozen=True)
 class SnrNoise:
-    """ADC noise from a data-sheet SNR for a full-scale sine at a stated sample rate.
+    """ADC noise from a data-sheet SNR for a full-scale sine at a stated rate.
+
+    The rate is the conversion rate of a SAR or the output data rate of a
+    delta-sigma converter, as data sheets quote them.
 
     σ = FSR/(2√2)·10^(−SNR/20) (IEEE Std 1241-2010); the figure includes quantisation.
     """
@@ -221,6 +224,10 @@ class ADC:
                     self.data_rate_hz,
                     f"at most the sample rate {self.sample_rate_hz:g} Hz",
                 )
+        if self.architecture == "delta-sigma" and self.data_rate_hz is None:
+            raise DesignError(
+                "data_rate", None, "the output data rate of the delta-sigma converter, Hz"
+            )
         if self.architecture == "sar" and self.data_rate_hz is not None:
             if not _same(self.data_rate_hz, self.sample_rate_hz):
                 raise DesignError(

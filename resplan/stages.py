@@ -9,7 +9,10 @@ file loader prefixes them with the stage's place (``stages[1].en``).
 from __future__ import annotations
 
 import math
+import numbers
 from dataclasses import dataclass, field
+
+import numpy as np
 
 from .errors import DesignError
 from .responses import AnalogLowpass
@@ -26,9 +29,13 @@ __all__ = [
 ]
 
 
+def _is_number(value: object) -> bool:
+    return isinstance(value, numbers.Real) and not isinstance(value, bool | np.bool_)
+
+
 def check_positive(name: str, value: float, what: str) -> float:
     """Return ``value`` if it is a finite number > 0, else raise DesignError(name, value, what)."""
-    if isinstance(value, bool) or not isinstance(value, int | float):
+    if not _is_number(value):
         raise DesignError(name, value, what)
     if not (math.isfinite(value) and value > 0):
         raise DesignError(name, value, what)
@@ -37,7 +44,7 @@ def check_positive(name: str, value: float, what: str) -> float:
 
 def check_nonnegative(name: str, value: float, what: str) -> float:
     """Return ``value`` if it is a finite number ≥ 0, else raise DesignError."""
-    if isinstance(value, bool) or not isinstance(value, int | float):
+    if not _is_number(value):
         raise DesignError(name, value, what)
     if not (math.isfinite(value) and value >= 0):
         raise DesignError(name, value, what)
