@@ -1,0 +1,306 @@
+"""The command line through click's CliRunner: exit codes, messages, JSON, init, schema.
+
+Every design is INVENTED (the embedded examples and edits of them).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from resplan import __version__
+from resplan.cli import main
+from resplan.examples import EXAMPLE_NAMES, example_text
+
+COMPLETE = ("hive-scale", "soil-temperature", "pipeline-vibration")
+#: The exit status each complete example is stated (in its first line) to give.
+EXPECTED_EXIT = {"hive-scale": 0, "soil-temperature": 0, "pipeline-vibration": 1}
+
+#: Keys ``check --json`` promises, at least.
+JSON_KEYS = {
+    "total_noise_rms_v",
+    "effective_bits",
+    "noise_free_bits",
+    "noise_free_counts",
+    "coverage",
+    "snr_db",
+    "dynamic_range_db",
+    "adc_range_used",
+    "meets_requirement",
+    "margin_bits",
+    "contributors",
+    "requirement",
+    "design",
+    "verdict",
+}
+
+
+@pytest.fixture
+def runner():
+    return CliRunner()
+
+
+def write(folder: Path, name: str, text: str) -> str:
+    path = folder / name
+    path.write_text(text, encoding="utf-8")
+    return str(path)
+
+
+def no_traceback(result) -> None:
+    assert result.exception is None or isinstance(result.exception, SystemExit), result.exception
+    assert "Traceback" not in result.output
+
+
+def strict_json(text: str):
+    """json.loads that refuses NaN and Infinity, which are not JSON."""
+
+    def refuse(name):
+        raise ValueError(f"not JSON: {name}")
+
+    return json.loads(text, parse_constant=refuse)
+
+
+# ---------------------------------------------------------------------------
+# check
+
+
+@pytest.mark.parametrize("name", COMPLETE)
+def test_check_examples_exit_as_stated(runner, tmp_path, name):
+    path = write(tmp_path, f"{name}.toml", example_text(name))
+    result = runner.invoke(main, ["check", path])
+    no_traceback(result)
+    assert result.exit_code == EXPECTED_EXIT[name], result.output
+    out = result.stdout
+    verdict = out.strip().splitlines()[-1]
+    assert verdict.startswith("MEETS" if EXPECTED_EXIT[name] == 0 else "DOES NOT MEET")
+    # conditions are always named
+    for fragment in ("coverage", "k_pp", "band", "temperature", "output data rate", "reference"):
+        assert fragment in out
+    assert "total" in out and "share" in out
+
+
+def test_check_prints_engineering_units(runner, tmp_path):
+    result = runner.invoke(main, ["check", write(tmp_path, "h.toml", example_text("hive-scale"))])
+    assert "in g: noise" in result.stdout
+    assert "required step           10 g" in result.stdout
+
+
+def test_verdict_line_format(runner, tmp_path):
+    result = runner.invoke(main, ["check", write(tmp_path, "h.toml", example_text("hive-scale"))])
+    data = strict_json(runner.invoke(main, ["check", "--json", str(tmp_path / "h.toml")]).stdout)
+    margin = data["margin_bits"]
+    assert result.stdout.strip().endswith(f"MEETS the requirement with {margin:.2f} bits to spare")
+    text = write(tmp_path, "v.toml", example_text("pipeline-vibration"))
+    out = runner.invoke(main, ["check", text]).stdout.strip().splitlines()[-1]
+    assert out.startswith("DOES NOT MEET the requirement: short by ")
+    assert out.endswith(" bits")
+
+
+@pytest.mark.parametrize("name", COMPLETE)
+def test_check_json_is_valid_with_the_promised_keys(runner, tmp_path, name):
+    path = write(tmp_path, f"{name}.toml", example_text(name))
+    result = runner.invoke(main, ["check", "--json", path])
+    no_traceback(result)
+    assert result.exit_code == EXPECTED_EXIT[name]
+    data = strict_json(result.stdout)
+    assert JSON_KEYS <= set(data)
+    assert data["meets_requirement"] is (EXPECTED_EXIT[name] == 0)
+    for c in data["contributors"]:
+        assert {"name", "stage", "kind", "rms_v", "adc_rms_v", "share"} <= set(c)
+    # shares of the noise power add to one (uncorrelated sources add in power)
+    assert sum(c["share"] for c in data["contributors"]) == pytest.approx(1.0, rel=1e-12)
+    total = math.sqrt(sum(c["rms_v"] ** 2 for c in data["contributors"]))
+    assert total == pytest.approx(data["total_noise_rms_v"], rel=1e-12)
+    assert len(data["design"]["sha256"]) == 64
+    assert data["design"]["meta"]["title"]
+
+
+def test_check_json_keys_are_stable(runner, tmp_path):
+    a = write(tmp_path, "a.toml", example_text("hive-scale"))
+    b = write(tmp_path, "b.toml", example_text("soil-temperature"))
+    ka = list(strict_json(runner.invoke(main, ["check", "--json", a]).stdout))
+    kb = list(strict_json(runner.invoke(main, ["check", "--json", b]).stdout))
+    assert ka == kb
+
+
+def test_check_json_with_infinite_margin_is_valid_json(runner, tmp_path):
+    # An interference allowance larger than the whole budget leaves no room for
+    # noise: the margin is -inf bits, written as the string "-inf".
+    text = example_text("hive-scale").replace('interference = "20 nV"', 'interference = "1 mV"')
+    result = runner.invoke(main, ["check", "--json", write(tmp_path, "h.toml", text)])
+    assert result.exit_code == 1
+    data = strict_json(result.stdout)
+    assert data["margin_bits"] == "-inf"
+    assert data["meets_requirement"] is False
+    plain = runner.invoke(main, ["check", str(tmp_path / "h.toml")])
+    assert "interference allowance alone" in plain.stdout
+
+
+def test_check_ascii(runner, tmp_path):
+    path = write(tmp_path, "s.toml", example_text("soil-temperature"))
+    result = runner.invoke(main, ["check", "--ascii", path])
+    assert result.exit_code == 0
+    assert result.stdout.isascii()
+    assert "degC" in result.stdout
+
+
+def test_check_open_design_names_every_open_part(runner, tmp_path):
+    path = write(tmp_path, "k.toml", example_text("kickoff-bridge"))
+    result = runner.invoke(main, ["check", path])
+    no_traceback(result)
+    assert result.exit_code == 2
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 4
+    for field in ("stages[0]", "stages[1]", "reference", "adc"):
+        assert any(f"k.toml: {field}: " in line and "resplan plan" in line for line in lines)
+    assert result.stdout == ""
+
+
+HIVE = example_text("hive-scale")
+BAD_INPUT = [
+    # (description, old, new, number of problem lines, fragment)
+    ("wrong unit", 'resistance = "2 kohm"', 'resistance = "2 kV"', 1, "kV is a voltage"),
+    ("missing field", 'resistance = "350 ohm"', "", 1, "sensor.resistance: missing"),
+    ("unknown key", "bits = 24", "bitss = 24", 2, 'did you mean "bits"'),
+    ("negative value", '"350 ohm"', '"-350 ohm"', 1, "> 0"),
+    ("bad TOML", "bits = 24", "bits = = 24", 1, "bad TOML syntax"),
+    ("p-p noise without factor", 'noise = "45 nV"', 'noise_pp = "300 nV"', 1, "pp_factor"),
+    ("ratio not integer", '"64 kHz"', '"64.001 kHz"', 1, "whole decimation ratio"),
+    (
+        "noise at another data rate",
+        'noise_data_rate = "10 Hz"',
+        'noise_data_rate = "5 Hz"',
+        1,
+        "scale_with_rate",
+    ),
+]
+
+
+@pytest.mark.parametrize(
+    ("old", "new", "count", "fragment"),
+    [case[1:] for case in BAD_INPUT],
+    ids=[case[0] for case in BAD_INPUT],
+)
+def test_bad_input_exits_2_with_one_line_per_problem(runner, tmp_path, old, new, count, fragment):
+    assert HIVE.count(old) == 1
+    path = write(tmp_path, "bad.toml", HIVE.replace(old, new))
+    for args in (["check", path], ["check", "--json", path]):
+        result = runner.invoke(main, args)
+        no_traceback(result)
+        assert result.exit_code == 2
+        lines = result.stderr.strip().splitlines()
+        assert len(lines) == count, lines
+        assert all(line.startswith(f"error: {path}") for line in lines), lines
+        assert any(fragment in line for line in lines), lines
+        assert result.stdout == ""
+
+
+def test_two_problems_give_two_lines(runner, tmp_path):
+    text = HIVE.replace('"350 ohm"', '"-350 ohm"').replace('"10 nF"', '"10 nV"')
+    result = runner.invoke(main, ["check", write(tmp_path, "two.toml", text)])
+    assert result.exit_code == 2
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 2
+    assert "sensor.resistance" in lines[0] and "stages[0].capacitance" in lines[1]
+
+
+def test_missing_design_file_is_one_line(runner, tmp_path):
+    missing = str(tmp_path / "nothere.toml")
+    result = runner.invoke(main, ["check", missing])
+    no_traceback(result)
+    assert result.exit_code == 2
+    assert result.stderr == f"error: {missing}: no such design file\n"
+
+
+def test_usage_errors_exit_2(runner):
+    assert runner.invoke(main, ["check"]).exit_code == 2
+    assert runner.invoke(main, ["check", "--nope", "x.toml"]).exit_code == 2
+    assert runner.invoke(main, ["nocommand"]).exit_code == 2
+
+
+# ---------------------------------------------------------------------------
+# init
+
+
+def test_init_writes_the_default_example(runner, tmp_path):
+    with runner.isolated_filesystem(temp_dir=tmp_path):
+        result = runner.invoke(main, ["init"])
+        assert result.exit_code == 0, result.output
+        written = Path("hive-scale.toml").read_text(encoding="utf-8")
+        assert written == example_text("hive-scale")
+        assert "resplan check hive-scale.toml" in result.stdout
+        assert runner.invoke(main, ["check", "hive-scale.toml"]).exit_code == 0
+        # no temporary files left behind
+        assert sorted(p.name for p in Path(".").iterdir()) == ["hive-scale.toml"]
+
+
+def test_init_refuses_to_overwrite_and_force_writes(runner, tmp_path):
+    target = tmp_path / "mine.toml"
+    target.write_text("# my own design\n", encoding="utf-8")
+    result = runner.invoke(main, ["init", "--example", "soil-temperature", str(target)])
+    no_traceback(result)
+    assert result.exit_code == 2
+    assert result.stderr == f"error: {target}: exists; use --force to overwrite it\n"
+    assert target.read_text(encoding="utf-8") == "# my own design\n"
+    result = runner.invoke(main, ["init", "-e", "soil-temperature", "--force", str(target)])
+    assert result.exit_code == 0
+    assert target.read_text(encoding="utf-8") == example_text("soil-temperature")
+
+
+def test_init_list_names_every_example(runner):
+    result = runner.invoke(main, ["init", "--list"])
+    assert result.exit_code == 0
+    lines = result.stdout.strip().splitlines()
+    assert [line.split()[0] for line in lines] == list(EXAMPLE_NAMES)
+    assert all("invented" in line for line in lines)
+
+
+def test_init_unknown_example_suggests(runner, tmp_path):
+    result = runner.invoke(main, ["init", "-e", "hive-scal", str(tmp_path / "x.toml")])
+    assert result.exit_code == 2
+    assert 'did you mean "hive-scale"' in result.stderr
+    assert not (tmp_path / "x.toml").exists()
+
+
+def test_init_into_a_missing_folder(runner, tmp_path):
+    result = runner.invoke(main, ["init", str(tmp_path / "no" / "such" / "d.toml")])
+    no_traceback(result)
+    assert result.exit_code == 2
+    assert "no such folder" in result.stderr
+
+
+# ---------------------------------------------------------------------------
+# schema, help, version
+
+
+def test_schema_is_json_schema_of_the_format(runner):
+    result = runner.invoke(main, ["schema"])
+    assert result.exit_code == 0
+    schema = strict_json(result.stdout)
+    assert schema["title"] == "resplan design file"
+    assert {"requirement", "sensor", "adc", "stages"} <= set(schema["properties"])
+
+
+@pytest.mark.parametrize("command", [[], ["init"], ["check"], ["schema"]])
+def test_help_has_an_example(runner, command):
+    result = runner.invoke(main, [*command, "--help"])
+    assert result.exit_code == 0
+    assert "resplan " in result.stdout and (
+        "Example" in result.stdout or "example" in result.stdout
+    )
+
+
+def test_help_carries_the_safety_caution(runner):
+    result = runner.invoke(main, ["--help"])
+    assert "mains or high voltage" in result.stdout
+    assert "local codes" in result.stdout
+
+
+def test_version(runner):
+    result = runner.invoke(main, ["--version"])
+    assert result.exit_code == 0
+    assert __version__ in result.stdout
