@@ -163,9 +163,20 @@ class _Rejected(Exception):
 @functools.cache
 def _registry() -> pint.UnitRegistry:
     """Build the small pint registry from ``units.txt`` (once, on first use)."""
+    import sys
     from importlib.resources import files
 
-    import pint
+    # pint probes for scipy at import (only its unit-choosing helper uses it);
+    # keep scipy off the start-up path of `resplan check`. The probe sees it as
+    # absent; the marker is removed at once, so later imports of scipy work.
+    probe = "scipy" not in sys.modules
+    if probe:
+        sys.modules["scipy"] = None  # type: ignore[assignment]
+    try:
+        import pint
+    finally:
+        if probe and sys.modules.get("scipy", 0) is None:
+            del sys.modules["scipy"]
 
     ureg = pint.UnitRegistry(None, on_redefinition="raise", cache_folder=None)
     text = files("resplan").joinpath("units.txt").read_text(encoding="utf-8")
