@@ -648,7 +648,11 @@ def _write_atomic(path: Path, data: bytes) -> None:
 
 
 def save_figures(
-    figs: Mapping[str, Figure], directory: str | os.PathLike, *, dpi: int = DEFAULT_DPI
+    figs: Mapping[str, Figure],
+    directory: str | os.PathLike,
+    *,
+    dpi: int = DEFAULT_DPI,
+    pngs: Mapping[str, bytes] | None = None,
 ) -> list[Path]:
     """Write each figure as ``NAME.png`` (at ``dpi``) and ``NAME.svg`` into a folder.
 
@@ -663,6 +667,9 @@ def save_figures(
         Folder for the files.
     dpi : int
         Resolution of the PNG files, dots per inch (≥ 50; 200 by default).
+    pngs : mapping of str to bytes, optional
+        PNG files already rendered at ``dpi`` (by :func:`figure_png`), written as they
+        are instead of drawing the figure again.
 
     Returns
     -------
@@ -678,7 +685,8 @@ def save_figures(
     written: list[Path] = []
     for name, fig in figs.items():
         png = folder / f"{name}.png"
-        _write_atomic(png, figure_png(fig, dpi))
+        data = pngs.get(name) if pngs is not None else None
+        _write_atomic(png, data if data is not None else figure_png(fig, dpi))
         svg = folder / f"{name}.svg"
         _write_atomic(svg, figure_svg(fig))
         written += [png, svg]

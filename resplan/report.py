@@ -1272,7 +1272,7 @@ def write_report(
         doc.addPageTemplates([PageTemplate(id="page", frames=[frame])])
         doc.build(story, canvasmaker=_canvas_class(footer, w.f["regular"], w.unicode))
         if figures_dir is not None:
-            save_figures(figs, figures_dir, dpi=dpi)
+            save_figures(figs, figures_dir, dpi=dpi, pngs=pngs)
         os.replace(temp, target)
     except BaseException:
         temp.unlink(missing_ok=True)
