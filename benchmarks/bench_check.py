@@ -43,7 +43,34 @@ def _run(cmd: list[str]) -> float:
     return elapsed
 
 
-def _imports(cmd: list[str]) -> tuple[list[tuple[int, str]], set[str]]:
+_PROBE = """
+import atexit, runpy, sys
+def report():
+    loaded = sorted({m.split(".")[0] for m, mod in sys.modules.items() if mod is not None})
+    print("LOADED " + " ".join(loaded), file=sys.stderr)
+atexit.register(report)
+sys.argv = ["resplan", "check", sys.argv[1]]
+runpy.run_module("resplan", run_name="__main__")
+"""
+
+
+def _loaded(path: Path) -> set[str]:
+    """Top-level modules present in sys.modules at exit of a check run."""
+    done = subprocess.run(
+        [sys.executable, "-c", _PROBE, str(path)],
+        stdout=subprocess.DEVNULL,
+        stderr=subprocess.PIPE,
+        check=False,
+        text=True,
+    )
+    for line in done.stderr.splitlines():
+        if line.startswith("LOADED "):
+            return set(line.split()[1:])
+    raise SystemExit(f"probe failed:\n{done.stderr}")
+
+
+def _imports(cmd: list[str]) -> list[tuple[int, str]]:
+    """(cumulative µs, module) from -X importtime, slowest first."""
     done = subprocess.run(
         [cmd[0], "-X", "importtime", *cmd[1:]],
         stdout=subprocess.DEVNULL,
@@ -52,7 +79,6 @@ def _imports(cmd: list[str]) -> tuple[list[tuple[int, str]], set[str]]:
         text=True,
     )
     rows = []
-    top_level = set()
     for line in done.stderr.splitlines():
         if not line.startswith("import time:") or "|" not in line:
             continue
@@ -61,11 +87,9 @@ def _imports(cmd: list[str]) -> tuple[list[tuple[int, str]], set[str]]:
             cumulative = int(parts[1])
         except ValueError:
             continue
-        name = parts[2].rstrip()
-        rows.append((cumulative, name.strip()))
-        top_level.add(name.strip().split(".")[0])
+        rows.append((cumulative, parts[2].strip()))
     rows.sort(reverse=True)
-    return rows, top_level
+    return rows
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -80,7 +104,8 @@ def main(argv: list[str] | None = None) -> int:
         _run(cmd)  # warm the file cache and the .pyc files
         times = sorted(_run(cmd) for _ in range(args.runs))
         bare = min(_run([sys.executable, "-c", "pass"]) for _ in range(5))
-        rows, loaded = _imports(cmd)
+        rows = _imports(cmd)
+        loaded = _loaded(path)
 
     best = times[0]
     print(

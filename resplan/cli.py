@@ -22,7 +22,6 @@ import contextlib
 import json
 import os
 import sys
-import tempfile
 from collections.abc import Iterator
 from pathlib import Path
 from typing import TYPE_CHECKING, Any, NoReturn
@@ -113,6 +112,8 @@ def write_text_atomic(path: Path, text: str, *, force: bool = False) -> None:
     click.ClickException
         Handled by the callers: they turn it into one ``error:`` line.
     """
+    import tempfile
+
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise FileNotFoundError(f"{folder}: no such folder")

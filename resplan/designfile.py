@@ -25,9 +25,7 @@ Examples
 from __future__ import annotations
 
 import datetime as _dt
-import difflib
 import hashlib
-import json
 import math
 import re
 import tomllib
@@ -119,11 +117,30 @@ def _with_source(err: DesignError, source: str) -> DesignError:
     return type(err)(err.field, err.value, err.expected, source)
 
 
+def _close_match(word: str, choices: typing.Iterable[str]) -> str | None:
+    """The choice closest to ``word`` (difflib's ratio ≥ 0.6), if any."""
+    import difflib  # only on the error path
+
+    close = difflib.get_close_matches(str(word), list(choices), n=1, cutoff=0.6)
+    return close[0] if close else None
+
+
+def _did_you_mean(word: str, choices: typing.Iterable[str]) -> str:
+    hint = _close_match(word, choices)
+    return f' (did you mean "{hint}"?)' if hint else ""
+
+
+def _quoted(value: Any) -> str:
+    import json  # only on the error path
+
+    return json.dumps(value, ensure_ascii=False)
+
+
 def _suggest(word: str, choices: typing.Iterable[str]) -> str:
     choices = list(choices)
-    close = difflib.get_close_matches(word, choices, n=1, cutoff=0.6)
-    if close:
-        return f'did you mean "{close[0]}"?'
+    hint = _close_match(word, choices)
+    if hint:
+        return f'did you mean "{hint}"?'
     return "expected one of " + ", ".join(choices)
 
 
@@ -485,7 +502,7 @@ _BARE_KEY = re.compile(r"^[A-Za-z0-9_-]+$")
 def _key(name: Any) -> str:
     """A key as TOML would write it: bare when it can be, else quoted."""
     text = str(name)
-    return text if _BARE_KEY.match(text) else json.dumps(text, ensure_ascii=False)
+    return text if _BARE_KEY.match(text) else _quoted(text)
 
 
 def _path(loc: typing.Sequence[Any]) -> str:
@@ -536,7 +553,7 @@ def _describe_field(model: type[BaseModel] | None, key: Any) -> str:
     if sub is not None:
         return f"a [{key}] table ({text})"
     if info.examples:
-        return f"{text}, such as {json.dumps(info.examples[0], ensure_ascii=False)}"
+        return f"{text}, such as {_quoted(info.examples[0])}"
     return text
 
 
@@ -589,13 +606,11 @@ def _structure_errors(err: ValidationError, data: Any) -> list[DesignError]:
             if tag is None:
                 out.append(MissingField(f"{path}.type", None, what))
             else:
-                hint = difflib.get_close_matches(str(tag), STAGE_TYPES, n=1, cutoff=0.6)
-                more = f' (did you mean "{hint[0]}"?)' if hint else ""
+                more = _did_you_mean(tag, STAGE_TYPES)
                 out.append(DesignError(f"{path}.type", tag, what + more))
         elif kind == "literal_error":
             choices = _literal_choices(_model_at(loc, data), key)
-            hint = difflib.get_close_matches(str(value), choices, n=1, cutoff=0.6)
-            more = f' (did you mean "{hint[0]}"?)' if hint else ""
+            more = _did_you_mean(value, choices)
             out.append(DesignError(path, value, "one of " + ", ".join(choices) + more))
         elif path == "stages" and kind == "list_type":
             out.append(DesignError(path, value, "[[stages]] tables, one per stage"))
@@ -1513,8 +1528,7 @@ def _weights(r: _Reader, t: PlanTable | None, names: list[str]) -> dict[str, flo
     for name, value in t.weights.items():
         path = f"plan.weights.{_key(name)}"
         if name not in names:
-            hint = difflib.get_close_matches(name, names, n=1, cutoff=0.6)
-            more = f' (did you mean "{hint[0]}"?)' if hint else ""
+            more = _did_you_mean(name, names)
             r.bad(path, name, "the name of a part: " + ", ".join(names) + more)
             continue
         w = r.number(value, path, "a weight > 0")
