@@ -240,30 +240,30 @@ def test_open_parts_carry_known_fields_in_si():
     d = loads_design(KICKOFF, "k.toml")
     assert not d.is_complete
     parts = {p.field_path: p for p in d.open_parts}
-    assert set(parts) == {"stages[0]", "stages[1]", "reference", "adc"}
+    assert set(parts) == {"stages[0]", "reference", "adc"}
     for p in parts.values():
         assert isinstance(p, OpenPart) and set(p.known) <= set(PART_KINDS[p.kind])
-    assert parts["stages[0]"].known == {"en_corner_hz": 0.5, "in_corner_hz": 0.5}
+    assert parts["stages[0]"].known == {"en_corner_hz": 1.0, "bandwidth_hz": 10e3}
     assert parts["stages[0]"].weight == 2
-    assert parts["stages[1]"].known == {"response": "butterworth", "order": 2}
+    assert isinstance(d.stages[1], RCFilter)
     assert parts["reference"].known == {"voltage_v": 2.5, "noise_corner_hz": 10.0}
     assert parts["adc"].known == {
         "architecture": "delta-sigma",
         "bits": 24,
         "full_scale_range_v": 5.0,
         "sample_rate_hz": 256e3,
-        "data_rate_hz": 50.0,
+        "data_rate_hz": 10.0,
     }
-    assert d.digital.stages == (SincFilter(4, 5120, 256e3),)
-    assert d.weights == {"front end": 2, "anti-alias filter": 1, "reference": 1, "ADC": 1}
+    assert d.digital.stages == (SincFilter(3, 25_600, 256e3),)
+    assert d.weights == {"front end": 2, "reference": 1, "ADC": 1}
     with pytest.raises(DesignErrors) as info:
         d.chain()
-    assert len(str(info.value).splitlines()) == 4
+    assert len(str(info.value).splitlines()) == 3
 
 
 def test_open_adc_without_rates_has_no_digital_path():
-    text = edit(KICKOFF, 'sample_rate = "256 kHz"\ndata_rate = "50 Hz"', "")
-    text = edit(text, 'decimation = "sinc4"', "")
+    text = edit(KICKOFF, 'sample_rate = "256 kHz"\ndata_rate = "10 Hz"', "")
+    text = edit(text, 'decimation = "sinc3"', "")
     assert loads_design(text, "k.toml").digital is None
 
 
@@ -273,18 +273,18 @@ def test_open_gain_from_resistors_and_rc_cutoff():
         'type = "amplifier"\nname = "front end"\nopen = true',
         'type = "noninverting"\nname = "front end"\nopen = true\nrf = "99 kohm"\nrg = "1 kohm"',
     )
+    text = edit(text, 'bandwidth = "10 kHz"', 'gbw = "10 MHz"')
     text = edit(
         text,
-        'type = "active_filter"\nname = "anti-alias filter"\nopen = true\n'
-        "# Decided: a 2nd-order Butterworth; the cut-off is left to the planner.\n"
-        'response = "butterworth"\norder = 2',
-        'type = "rc_filter"\nname = "anti-alias filter"\nopen = true\n'
-        'resistance = "1 kohm"\ncapacitance = "1 µF"',
+        'name = "ADC input RC (invented)"',
+        'name = "ADC input RC (invented)"\nopen = true',
     )
     d = loads_design(text, "k.toml")
     assert d.stages[0].known["gain"] == pytest.approx(100.0)
-    # f_c = 1/(2πRC) (single-pole RC)
-    assert d.stages[1].known["cutoff_hz"] == pytest.approx(1 / (2 * math.pi * 1e-3), rel=1e-12)
+    assert d.stages[0].known["gbw_hz"] == pytest.approx(10e6)
+    # f_c = 1/(2πRC) (single-pole RC): 1 kΩ, 100 nF
+    assert d.stages[1].known["cutoff_hz"] == pytest.approx(1 / (2 * math.pi * 1e-4), rel=1e-12)
+    assert d.stages[1].known["response"] == "rc"
 
 
 def test_alias_interferer():
@@ -384,7 +384,7 @@ INVALID = [
     ("gain of a given non-inverting stage", SOIL, 'rg = "1 kohm"', 'rg = "1 kohm"\ngain = 20',
      "stages[0].gain", "1 + rf/rg"),
     ("filter order", VIBRATION, "order = 4", "order = 9", "stages[0].order", "1 to 8"),
-    ("noise field on an open part", KICKOFF, 'en_corner = "0.5 Hz"', 'en = "5 nV/rtHz"',
+    ("noise field on an open part", KICKOFF, 'en_corner = "1 Hz"', 'en = "5 nV/rtHz"',
      "stages[0].en", "open part"),
     ("ratiometric open reference", KICKOFF, 'voltage = "2.5 V"\nnoise_corner', 'voltage = "2.5 V"\n'
      "ratiometric = true\nnoise_corner", "reference.ratiometric", "nothing to size"),
