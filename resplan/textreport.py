@@ -223,7 +223,8 @@ def format_budget(budget: Budget, design: Design | None = None, *, ascii_only: b
     lines += _table(res, set())
     lines.append(f"  ADC range used by the sensor span: {format_percent(budget.adc_range_used)}")
     lines.append(
-        f"  ADC alone (its own noise and quantisation, after the digital filter): ENOB {format_bits(budget.adc_enob)}"
+        "  ADC alone (its own noise and quantisation, after the digital filter): "
+        f"ENOB {format_bits(budget.adc_enob)}"
     )
     eng = engineering_figures(budget)
     if eng is not None:
