@@ -228,6 +228,20 @@ def _label(c: Any) -> str:
     return f"{c.name} ({c.stage})"
 
 
+#: Longest legend label before it is shortened, characters.
+_LEGEND_CHARS = 50
+
+
+def _legend_label(c: Any, *, quoted: bool = False) -> str:
+    """The contributor's label, shortened to fit a legend column; the quoted mark is kept."""
+    text = _label(c)
+    suffix = " · quoted rms" if quoted else ""
+    room = _LEGEND_CHARS - len(suffix)
+    if len(text) > room:
+        text = text[: room - 1] + "…"
+    return text + suffix
+
+
 def _density_figure(chain, budget: Budget, spectra) -> Figure:
     import numpy as np
 
@@ -248,7 +262,7 @@ def _density_figure(chain, budget: Budget, spectra) -> Figure:
             color=_LINE_COLOURS[i % len(_LINE_COLOURS)],
             linestyle=_DASHES[i % len(_DASHES)],
             linewidth=1.0,
-            label=_label(c) + (" · rms, flat to ODR/2" if c.quoted else ""),
+            label=_legend_label(c, quoted=c.quoted),
         )
     if rest:
         power = sum(c.bin_power_v2 for c in rest)
@@ -273,16 +287,18 @@ def _density_figure(chain, budget: Budget, spectra) -> Figure:
     ax.set_xlim(spectra.edges_hz[0], spectra.edges_hz[-1])
     ax.set_xlabel("frequency (Hz)")
     ax.set_ylabel("noise density at the sensor (V/√Hz)")
-    ax.axvline(spectra.quoted_top_hz, color=_GREY, linewidth=0.6, linestyle=(0, (2, 2)))
-    ax.annotate(
-        "ODR/2",
-        (spectra.quoted_top_hz, 1.0),
-        xycoords=("data", "axes fraction"),
-        xytext=(2, -8),
-        textcoords="offset points",
-        fontsize=6.3,
-        color=_GREY,
-    )
+    if spectra.quoted_top_hz < 0.9 * spectra.f_top_hz:
+        ax.axvline(spectra.quoted_top_hz, color=_GREY, linewidth=0.6, linestyle=(0, (2, 2)))
+        ax.annotate(
+            "½ converter output rate",
+            (spectra.quoted_top_hz, 1.0),
+            xycoords=("data", "axes fraction"),
+            xytext=(-2, -8),
+            textcoords="offset points",
+            ha="right",
+            fontsize=6.3,
+            color=_GREY,
+        )
 
     right = ax.twinx()
     right.grid(False)
@@ -324,7 +340,9 @@ def _density_figure(chain, budget: Budget, spectra) -> Figure:
         "Each contributor's density referred to the sensor through the analog responses "
         "after its entry point and the digital filter, as the power mean over logarithmic "
         "bins (the side lobes of the digital filter are narrower than a bin). Figures the "
-        "budget holds as rms values are drawn flat from f_L to ODR/2 with that rms. The "
+        "budget holds as rms values (marked \u2018quoted rms\u2019) are drawn as white noise "
+        "at the converter's output rate r, from f_L to r/2, shaped by the digital stages "
+        "after the converter, carrying that rms. The "
         "axis is not folded: noise above half the sample rate that aliases into the band "
         "is counted in the budget, not drawn here.",
     )

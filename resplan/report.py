@@ -227,6 +227,14 @@ SAFETY_PARAGRAPHS: tuple[str, ...] = (
 )
 
 
+#: One line on the summary page pointing to the cautions.
+SUMMARY_CAUTION = (
+    "This appendix estimates noise only. Whether a measurement on mains or high-voltage "
+    "circuits is safe (IEC 61010-1), and the review medical (IEC 60601-1) and hazardous-area "
+    "(IEC 60079) equipment needs, are decided elsewhere: see section 7."
+)
+
+
 def _density(nd: Any, unit: str) -> str:
     if nd is None:
         return "—"
@@ -786,6 +794,7 @@ def _summary(w: _Writer, design: Design, budget: Budget | None, plan: Any) -> li
     if budget is not None and budget.warnings:
         out.append(w.p("Warnings from the budget:", w.h2))
         out += w.bullet_items(list(budget.warnings))
+    out.append(w.p(SUMMARY_CAUTION, w.small))
     return out
 
 
@@ -1032,7 +1041,7 @@ def _budget_section(w: _Writer, design: Design, budget: Budget | None) -> list:
     out.append(
         w.table(
             rows,
-            [33, 15, 19, 19, 13, 19, 13, 17, 32],
+            [31, 17, 14, 14, 15, 19, 13, 13, 34],
             total_row=True,
             align_right=(2, 3, 4, 5, 6, 7),
             font_size=7,

@@ -12,8 +12,9 @@ they do not:
   (``Contribution.responses``) and the chain's digital response, on an
   *unfolded* frequency axis from the lower band edge to half the ADC sample
   rate. Terms the budget takes as quoted rms figures (ADC noise, quantisation,
-  reference at full input when no density is known) are drawn as a flat density
-  over f_L … ODR/2 carrying exactly that rms.
+  reference at full input when no density is known) are drawn as white noise
+  at the converter's output rate r, over f_L … r/2, shaped by the digital stages
+  after the converter and carrying exactly that rms.
 - :func:`cumulative_noise` — the rms of everything below f, rising to the
   budget's total. What the unfolded axis cannot show (noise from above the
   plotted range that sampling folds into the band) is reported as a final step,
@@ -94,7 +95,8 @@ class ContributorSpectrum:
     density_v_per_rthz : numpy.ndarray
         Power-mean density in each bin, V/√Hz.
     quoted : bool
-        True when the budget has it as an rms figure (drawn flat over f_L … ODR/2).
+        True when the budget has it as an rms figure (drawn as white noise at the
+        converter's output rate, shaped by the digital stages after it).
     """
 
     name: str
@@ -133,7 +135,7 @@ class Spectra:
         Top of the plotted range, Hz: half the ADC sample rate when there is a
         digital filter, else the larger of that and 100 × the highest analog corner.
     quoted_top_hz : float
-        Quoted rms terms are spread flat up to here: half the output data rate, Hz.
+        Quoted rms terms are spread up to here: half the converter's own output rate, Hz.
     """
 
     edges_hz: np.ndarray
@@ -328,9 +330,11 @@ def noise_spectra(chain: Chain, budget: Budget, *, bins: int = 300) -> Spectra:
     point and the ADC and the chain's digital response. A non-ratiometric
     reference with a density enters as V_peak/V_ref times its density (the
     budget's full-input treatment). Terms the budget holds only as an rms figure
-    are drawn flat over f_L … ODR/2 with exactly that rms (Parseval: a white
-    sequence of variance σ² at rate r has one-sided density σ²/(r/2) over 0 … r/2;
-    Oppenheim & Schafer, *Discrete-Time Signal Processing*, 3rd ed., §2.9).
+    are drawn as white noise at the converter's output rate r, over f_L … r/2, times
+    |H_post|² of the digital stages after the converter, scaled to exactly that rms
+    (Parseval: a white sequence of variance σ² at rate r has one-sided density
+    σ²/(r/2) over 0 … r/2; Oppenheim & Schafer, *Discrete-Time Signal Processing*,
+    3rd ed., §2.9).
     """
     if isinstance(bins, bool) or not isinstance(bins, int) or bins < 10:
         raise DesignError("bins", bins, "a whole number of bins ≥ 10")
@@ -346,9 +350,11 @@ def noise_spectra(chain: Chain, budget: Budget, *, bins: int = 300) -> Spectra:
     def binned(cell_power: np.ndarray) -> np.ndarray:
         return np.bincount(which, weights=cell_power, minlength=bins)
 
-    quoted_top = max(min(chain.output_rate_hz / 2, f_top), f_low * (1 + 1e-9))
-    overlap = np.clip(np.minimum(bin_edges[1:], quoted_top) - bin_edges[:-1], 0.0, None)
-    flat = overlap / overlap.sum()
+    quoted_top = max(min(chain.adc.output_rate_hz / 2, f_top), f_low * (1 + 1e-9))
+    quoted_shape = _quoted_shape(chain, mid, width, quoted_top, binned)
+    if quoted_shape is None:  # the grid has no cell under r/2: put it all in the first bin
+        quoted_shape = np.zeros(bins)
+        quoted_shape[0] = 1.0
 
     ref = chain.reference
     out: list[ContributorSpectrum] = []
@@ -362,7 +368,7 @@ def noise_spectra(chain: Chain, budget: Budget, *, bins: int = 300) -> Spectra:
             scale = chain.sensor.peak_v / ref.voltage_v
             shape = (ref.noise.white * scale, ref.noise.corner_hz, ref.responses)
         if shape is None:
-            power = c.rms_v**2 * flat
+            power = c.rms_v**2 * quoted_shape
             quoted = True
         else:
             white, corner, responses = shape
@@ -379,6 +385,18 @@ def noise_spectra(chain: Chain, budget: Budget, *, bins: int = 300) -> Spectra:
     analog = binned(analog_all * width) / widths
     digital = None if chain.digital is None else binned(digital_gain * width) / widths
     return Spectra(bin_edges, tuple(out), analog, digital, f_top, quoted_top)
+
+
+def _quoted_shape(chain: Chain, mid, width, top: float, binned) -> np.ndarray | None:
+    """Fraction of a quoted rms term's power in each bin (sums to 1), or None."""
+    weight = np.where(mid <= top, width, 0.0)
+    post = chain.post_stages
+    if post:
+        weight = weight * DigitalPath(tuple(post)).power_gain(mid)
+    total = float(np.sum(weight))
+    if not total > 0:
+        return None
+    return binned(weight) / total
 
 
 def cumulative_noise(spectra: Spectra, budget: Budget) -> CumulativeNoise:

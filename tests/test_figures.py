@@ -164,6 +164,18 @@ def test_quoted_terms_are_drawn_with_exactly_their_rms():
         assert np.all(c.bin_power_v2[spectra.edges_hz[:-1] >= spectra.quoted_top_hz] == 0)
 
 
+def test_quoted_terms_follow_the_digital_stages_after_the_converter():
+    # The converter's white noise at rate r passes the band limit after it; none of it
+    # is left above the limit, and it still integrates to the budget's rms (Parseval).
+    rate = 100e3
+    chain = invented_quiet_sar_chain(DigitalPath((IdealLowpass(1e3, rate),)))
+    budget = forward_budget(chain, Band(1.0))
+    spectra = noise_spectra(chain, budget)
+    for c in (c for c in spectra.contributors if c.quoted):
+        assert c.plotted_rms_v == pytest.approx(c.rms_v, rel=1e-12)
+        assert np.all(c.bin_power_v2[spectra.edges_hz[:-1] > 1e3 * 1.001] == 0)
+
+
 def test_cumulative_curve_ends_at_the_budget_total_with_aliases_as_the_last_step():
     chain = invented_delta_sigma_chain()
     budget = forward_budget(chain, Band(0.01))
