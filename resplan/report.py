@@ -140,7 +140,7 @@ FORMULAS: tuple[tuple[str, str, str], ...] = (
     (
         "Butterworth attenuation",
         "A(f) = 10·log10(1 + (f/f_c)^2n) dB",
-        "S. Butterworth, Wireless Engineer 7, 536 (1930)",
+        "S. Butterworth, Wireless Engineer 7, 536 (1930) (from memory)",
     ),
     (
         "Bessel low-pass",
@@ -161,7 +161,8 @@ FORMULAS: tuple[tuple[str, str, str], ...] = (
     (
         "Noise of a sampled chain, aliases included",
         "σ² = ∫ S(f)·|H_a(f)|²·|H_d(f)|² df, |H_d| periodic in f_s (folded into 0…f_s/2)",
-        "sampling theorem: H. Nyquist (1928), C. E. Shannon, Proc. IRE 37, 10 (1949)",
+        "sampling theorem: C. E. Shannon, Proc. IRE 37, 10 (1949) (from memory); periodic "
+        "digital response, Oppenheim and Schafer",
     ),
     (
         "Quantisation noise",
@@ -757,13 +758,14 @@ def _summary(w: _Writer, design: Design, budget: Budget | None, plan: Any) -> li
         if req.engineering_per_volt and req.engineering_unit:
             unit = req.engineering_unit
             per_v = req.engineering_per_volt
-            rows.append(
-                [
-                    "In the measurand",
-                    f"noise {format_si(b.total_rms_v * per_v, unit)} rms; noise-free step "
-                    f"{format_si(b.k_pp * b.total_rms_v * per_v, unit)} at k_pp = {_k(b.k_pp)}",
-                ]
+            text = (
+                f"noise {format_si(b.total_rms_v * per_v, unit)} rms; noise-free step "
+                f"{format_si(b.k_pp * b.total_rms_v * per_v, unit)} at k_pp = {_k(b.k_pp)}"
             )
+            if req.noise_free_counts:
+                step = req.span_v * per_v / req.noise_free_counts
+                text += f"; required step {format_si(step, unit)}"
+            rows.append(["In the measurand", text])
     else:
         rows += [
             ["Forward budget", "not computed: the design has open parts (section 3 sizes them)"],
@@ -882,8 +884,10 @@ def _assumptions(w: _Writer, design: Design, budget: Budget | None, plan: Any) -
             if c.note:
                 items.append(f"{c.name} ({c.stage}): {c.note}.")
         items += [f"Budget warning: {x}" for x in budget.warnings]
+    notes = tuple(getattr(design, "notes", ()) or ())
+    items += [f"From the design file: {x}." for x in notes]
     if plan is not None:
-        items += [f"Plan: {x}" for x in getattr(plan, "assumptions", ()) or ()]
+        items += [f"Plan: {x}" for x in getattr(plan, "assumptions", ()) or () if x not in notes]
     out += w.bullet_items(items)
     return out
 
