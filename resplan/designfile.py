@@ -1521,17 +1521,32 @@ def _names(r: _Reader, parts: list[tuple[str, str]]) -> None:
             seen[name] = path
 
 
-def _weights(r: _Reader, t: PlanTable | None, names: list[str]) -> dict[str, float]:
+def _weights(
+    r: _Reader, t: PlanTable | None, parts: list[tuple[str, str, bool]]
+) -> dict[str, float]:
+    """Weights keyed by part name; a key may also be the part's table (``adc``, ``stages[1]``)."""
     out: dict[str, float] = {}
     if t is None or t.weights is None:
         return out
-    for name, value in t.weights.items():
-        path = f"plan.weights.{_key(name)}"
-        if name not in names:
-            more = _did_you_mean(name, names)
-            r.bad(path, name, "the name of a part: " + ", ".join(names) + more)
+    by_name = {name: is_open for _, name, is_open in parts}
+    by_path = {path: name for path, name, _ in parts}
+    open_names = [name for _, name, is_open in parts if is_open]
+    for key, value in t.weights.items():
+        path = f"plan.weights.{_key(key)}"
+        name = key if key in by_name else by_path.get(key)
+        if name is None:
+            more = _did_you_mean(key, [*by_name, *by_path])
+            listed = ", ".join(open_names) if open_names else "none is open"
+            r.bad(path, key, f"the name of an open part ({listed}){more}")
             continue
-        w = r.number(value, path, "a weight > 0")
+        if not by_name[name]:
+            r.bad(
+                path,
+                key,
+                f"the name of an open part ({name} is given: only open parts share the budget)",
+            )
+            continue
+        w = r.number(value, path, "a weight ≥ 0", minimum="≥ 0")
         if w is not None:
             out[name] = w
     return out
@@ -1587,12 +1602,15 @@ def design_from_mapping(
         f = r.q(it.frequency, "frequency", "requirement.interferer.frequency", minimum="> 0")
         a = r.q(it.amplitude, "voltage", "requirement.interferer.amplitude", minimum="≥ 0")
         interferer = None if f is None or a is None else (f, a)
-    parts = [(f"stages[{i}]", s.name or f"stage {i + 1}") for i, s in enumerate(model.stages or [])]
+    parts = [
+        (f"stages[{i}]", s.name or f"stage {i + 1}", bool(s.open))
+        for i, s in enumerate(model.stages or [])
+    ]
     if model.reference:
-        parts.append(("reference", model.reference.name or "reference"))
-    parts.append(("adc", model.adc.name or "ADC"))
-    _names(r, parts)
-    weights = _weights(r, model.plan, [n for _, n in parts])
+        parts.append(("reference", model.reference.name or "reference", bool(model.reference.open)))
+    parts.append(("adc", model.adc.name or "ADC", bool(model.adc.open)))
+    _names(r, [(path, name) for path, name, _ in parts])
+    weights = _weights(r, model.plan, parts)
     if (
         structure
         or r.errors
@@ -1787,6 +1805,10 @@ def check_design(design: Design, *, grid_points: int = 2000):
     """
     from .budget import forward_budget
 
-    return forward_budget(
-        design.chain(), design.band, requirement=design.requirement, grid_points=grid_points
-    )
+    chain = design.chain()
+    try:
+        return forward_budget(
+            chain, design.band, requirement=design.requirement, grid_points=grid_points
+        )
+    except DesignError as err:  # name the file, as every other problem does
+        raise _with_source(err, design.source) if design.source else err from None

@@ -208,6 +208,19 @@ def test_two_problems_give_two_lines(runner, tmp_path):
     assert "sensor.resistance" in lines[0] and "stages[0].capacitance" in lines[1]
 
 
+def test_chain_problem_found_at_check_is_one_line_naming_the_file(runner, tmp_path):
+    # Valid field by field, but nothing bounds the analog noise band before sampling.
+    text = example_text("soil-temperature")
+    start = text.index("\n[[stages]]")
+    end = text.index("\n[reference]")
+    path = write(tmp_path, "nobw.toml", text[:start] + text[end:])
+    result = runner.invoke(main, ["check", path])
+    no_traceback(result)
+    assert result.exit_code == 2
+    (line,) = result.stderr.strip().splitlines()
+    assert line.startswith(f"error: {path}: sensor: ")
+
+
 def test_missing_design_file_is_one_line(runner, tmp_path):
     missing = str(tmp_path / "nothere.toml")
     result = runner.invoke(main, ["check", missing])

@@ -287,6 +287,11 @@ def test_open_gain_from_resistors_and_rc_cutoff():
     assert d.stages[1].known["response"] == "rc"
 
 
+def test_weights_may_name_a_part_by_its_table():
+    text = edit(KICKOFF, 'reference = 1, ADC = 1', "reference = 1, adc = 3")
+    assert loads_design(text, "k.toml").weights == {"front end": 2, "reference": 1, "ADC": 3}
+
+
 def test_alias_interferer():
     d = loads_design(VIBRATION, "v.toml")
     assert d.alias_interferer == pytest.approx((190e3, 20e-3))
@@ -391,7 +396,10 @@ INVALID = [
     ("unknown weight name", KICKOFF, '"front end" = 2', '"frontend" = 2', "plan.weights.frontend",
      'did you mean "front end"'),
     ("negative weight", KICKOFF, "reference = 1", "reference = -1", "plan.weights.reference",
-     "> 0"),
+     "≥ 0"),
+    ("weight for a given part", KICKOFF, "reference = 1,",
+     'reference = 1, "ADC input RC (invented)" = 1,', 'plan.weights."ADC input RC (invented)"',
+     "only open parts"),
     ("duplicate names", SOIL, 'name = "ADC input RC (invented)"',
      'name = "zero-drift op-amp, gain 20 (invented)"', "stages[1].name", "no other part"),
     ("stages as one table", HIVE, "\n[[stages]]", "\n[stages]", "stages", "[[stages]]"),
