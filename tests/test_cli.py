@@ -218,7 +218,7 @@ def test_chain_problem_found_at_check_is_one_line_naming_the_file(runner, tmp_pa
     no_traceback(result)
     assert result.exit_code == 2
     (line,) = result.stderr.strip().splitlines()
-    assert line.startswith(f"error: {path}: sensor: ")
+    assert line.startswith(f"error: {path}: ") and "no band limit" in line
 
 
 def test_missing_design_file_is_one_line(runner, tmp_path):
