@@ -474,7 +474,25 @@ def design_schema() -> dict[str, Any]:
     >>> sorted(schema["required"])
     ['adc', 'requirement', 'sensor']
     """
-    return DesignFile.model_json_schema(by_alias=True)
+    return _without_null(DesignFile.model_json_schema(by_alias=True))
+
+
+def _without_null(node: Any) -> Any:
+    """Drop the ``null`` alternatives pydantic writes for optional fields: TOML has no null."""
+    if isinstance(node, list):
+        return [_without_null(v) for v in node]
+    if not isinstance(node, dict):
+        return node
+    out = {k: _without_null(v) for k, v in node.items() if not (k == "default" and v is None)}
+    branches = out.get("anyOf")
+    if isinstance(branches, list):
+        kept = [b for b in branches if b != {"type": "null"}]
+        if len(kept) == 1 and isinstance(kept[0], dict):
+            del out["anyOf"]
+            out = {**kept[0], **out}
+        else:
+            out["anyOf"] = kept
+    return out
 
 
 # ---------------------------------------------------------------------------
