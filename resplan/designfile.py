@@ -1798,7 +1798,7 @@ def load_design(path: str | Path) -> Design:
     except OSError as err:
         raise DesignFileError(f"{source}: cannot be read ({err.strerror or err})") from None
     try:
-        text = raw.decode("utf-8")
+        text = raw.decode("utf-8-sig")  # a byte-order mark, as some editors write, is fine
     except UnicodeDecodeError as err:
         raise DesignFileError(
             f"{source}: not UTF-8 text (byte {describe_value(raw[err.start : err.start + 1])} "
@@ -1806,7 +1806,7 @@ def load_design(path: str | Path) -> Design:
         ) from None
     design = loads_design(text, source)
     digest = hashlib.sha256(raw).hexdigest()
-    if design.sha256 != digest:  # pragma: no cover - a BOM-free UTF-8 file round-trips
+    if design.sha256 != digest:  # the digest is of the file's bytes, byte-order mark included
         design = Design(**{**design.__dict__, "sha256": digest})
     return design
 

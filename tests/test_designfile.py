@@ -487,12 +487,15 @@ def test_unreadable_files(tmp_path, content, fragment):
     assert fragment in str(info.value) and "\n" not in str(info.value)
 
 
-def test_file_digest_is_of_the_bytes(tmp_path):
+@pytest.mark.parametrize("encoding", ["utf-8", "utf-8-sig"])
+def test_file_digest_is_of_the_bytes(tmp_path, encoding):
     import hashlib
 
     path = tmp_path / "hive.toml"
-    path.write_text(HIVE, encoding="utf-8")
-    assert load_design(path).sha256 == hashlib.sha256(path.read_bytes()).hexdigest()
+    path.write_text(HIVE.replace("\n", "\r\n"), encoding=encoding)
+    design = load_design(path)
+    assert design.sha256 == hashlib.sha256(path.read_bytes()).hexdigest()
+    assert design.requirement.span_v == pytest.approx(10e-3)
 
 
 # ---------------------------------------------------------------------------
