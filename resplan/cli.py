@@ -20,7 +20,6 @@ from __future__ import annotations
 
 import contextlib
 import json
-import os
 import sys
 from collections.abc import Iterator
 from pathlib import Path
@@ -112,7 +111,7 @@ def write_text_atomic(path: Path, text: str, *, force: bool = False) -> None:
     click.ClickException
         Handled by the callers: they turn it into one ``error:`` line.
     """
-    import tempfile
+    from .atomic import write_text_atomic as write
 
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
@@ -121,17 +120,7 @@ def write_text_atomic(path: Path, text: str, *, force: bool = False) -> None:
         raise FileExistsError(f"{path}: exists; use --force to overwrite it")
     if path.is_dir():
         raise IsADirectoryError(f"{path}: is a folder")
-    fd, tmp = tempfile.mkstemp(dir=folder, prefix=f".{path.name}.", suffix=".tmp")
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as handle:
-            handle.write(text)
-            handle.flush()
-            os.fsync(handle.fileno())
-        os.replace(tmp, path)
-    except BaseException:
-        with contextlib.suppress(OSError):
-            os.unlink(tmp)
-        raise
+    write(path, text)
 
 
 # ---------------------------------------------------------------------------
@@ -251,3 +240,91 @@ def schema() -> None:
 # More commands (plan, report) are added below with @main.command(); use
 # load_design_or_exit, exit_on_error and emit_json so that they keep the same
 # exit codes and one-line errors.
+
+
+@main.command()
+@click.argument("design", metavar="DESIGN")
+@click.option(
+    "--weights",
+    metavar="NAME=W,...",
+    help='Allocation weights by part name or place, such as "front end=2,adc=1".',
+)
+@click.option("--json", "as_json", is_flag=True, help="Print the plan as JSON.")
+@click.option("--ascii", "ascii_only", is_flag=True, help="Plain ASCII units (u, ohm, rtHz).")
+def plan(design: str, weights: str | None, as_json: bool, ascii_only: bool) -> None:
+    """Work backward: the noise limit every open part of DESIGN must meet.
+
+    Subtracts the fixed parts (the sensor's thermal noise, every part already
+    given) from the noise the requirement allows, shares the rest among the open
+    parts by weight (equal power by default) and turns each share into the
+    figures data sheets quote. Exit status: 0 feasible, 1 infeasible (with the
+    reasons and the levers that would fix it), 2 bad input.
+
+    \b
+    Examples:
+      resplan init --example kickoff-bridge kickoff.toml
+      resplan plan kickoff.toml
+      resplan plan kickoff.toml --weights "front end=2,adc=1" --json
+    """
+    from .plan import parse_weights, plan_design
+    from .plantext import format_plan, plan_data
+
+    loaded = load_design_or_exit(design)
+    with exit_on_error():
+        overrides = parse_weights(weights) if weights else None
+        result = plan_design(loaded, overrides)
+    if as_json:
+        emit_json(plan_data(result, loaded))
+    else:
+        click.echo(format_plan(result, loaded, ascii_only=wants_ascii(ascii_only)))
+    sys.exit(EXIT_OK if result.feasible else EXIT_NOT_MET)
+
+
+@main.command()
+@click.argument("design", metavar="[DESIGN]", required=False)
+@click.option(
+    "-o",
+    "--output",
+    default="report.pdf",
+    show_default=True,
+    type=click.Path(dir_okay=False),
+    help="The PDF to write (atomically: an existing file is replaced only on success).",
+)
+@click.option(
+    "--paper",
+    type=click.Choice(["A4", "letter"], case_sensitive=False),
+    default="A4",
+    show_default=True,
+)
+@click.option(
+    "--figures",
+    "figures_dir",
+    type=click.Path(file_okay=False),
+    help="Also write every figure as PNG and SVG into this folder.",
+)
+@click.option("--weights", metavar="NAME=W,...", help="Allocation weights for the plan section.")
+def report(
+    design: str | None, output: str, paper: str, figures_dir: str | None, weights: str | None
+) -> None:
+    """Write the PDF requirements appendix of DESIGN (the hive-scale example if omitted).
+
+    Summary, requirement and assumptions, the plan, the budget of every
+    contributor, figures, the formulas with their sources and the
+    measurement-safety cautions; the design file's SHA-256 in the title block.
+
+    \b
+    Examples:
+      resplan report -o hive-scale-report.pdf
+      resplan report design.toml -o appendix.pdf --paper letter --figures figures/
+    """
+    from .examples import DEFAULT_EXAMPLE, load_example
+    from .plan import parse_weights, plan_design
+    from .report import write_report
+
+    loaded = load_design_or_exit(design) if design else load_example(DEFAULT_EXAMPLE)
+    with exit_on_error():
+        the_plan = None
+        if weights:
+            the_plan = plan_design(loaded, parse_weights(weights))
+        path = write_report(loaded, output, paper=paper, figures_dir=figures_dir, plan=the_plan)
+    click.echo(f"wrote {path}")

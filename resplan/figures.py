@@ -20,11 +20,11 @@ from __future__ import annotations
 import io
 import math
 import os
-import tempfile
 from collections.abc import Mapping, Sequence
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
+from .atomic import write_bytes_atomic
 from .budget import Budget
 from .errors import DesignError
 from .formatting import format_bits, format_percent, format_si
@@ -654,17 +654,6 @@ def figure_svg(fig: Figure) -> bytes:
     return buffer.getvalue()
 
 
-def _write_atomic(path: Path, data: bytes) -> None:
-    fd, temp = tempfile.mkstemp(dir=path.parent, prefix=f".{path.name}.", suffix=".tmp")
-    try:
-        with os.fdopen(fd, "wb") as out:
-            out.write(data)
-        os.replace(temp, path)
-    except BaseException:
-        Path(temp).unlink(missing_ok=True)
-        raise
-
-
 def save_figures(
     figs: Mapping[str, Figure],
     directory: str | os.PathLike,
@@ -704,8 +693,8 @@ def save_figures(
     for name, fig in figs.items():
         png = folder / f"{name}.png"
         data = pngs.get(name) if pngs is not None else None
-        _write_atomic(png, data if data is not None else figure_png(fig, dpi))
+        write_bytes_atomic(png, data if data is not None else figure_png(fig, dpi))
         svg = folder / f"{name}.svg"
-        _write_atomic(svg, figure_svg(fig))
+        write_bytes_atomic(svg, figure_svg(fig))
         written += [png, svg]
     return written

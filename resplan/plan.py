@@ -378,22 +378,26 @@ def _placeholder_amplifier(part: OpenPart, gain: float) -> IntegratedAmplifier:
 
 
 def _weights(slots: list[_Slot], design: Design, override: dict[str, float] | None) -> list[float]:
-    given = dict(design.weights)
-    if override:
-        given.update(override)
+    """Weights of the open parts, keyed in the design or ``override`` by name or place."""
     names = [s.part.name for s in slots]
+    places = {s.part.field_path: s.part.name for s in slots}
     errors = []
-    for name, w in given.items():
-        if name not in names:
+    given: dict[str, float] = {}
+    for name, w in {**design.weights, **(override or {})}.items():
+        key = places.get(name, name)
+        if key not in names:
             errors.append(
                 DesignError(
                     f"weights.{name}",
                     w,
-                    "the name of an open part: " + (", ".join(names) if names else "(none open)"),
+                    "the name or place of an open part: "
+                    + (", ".join(names) if names else "(none open)"),
                 )
             )
         elif not (math.isfinite(w) and w >= 0):
             errors.append(DesignError(f"weights.{name}", w, "a weight ≥ 0"))
+        else:
+            given[key] = float(w)
     if errors:
         raise DesignErrors(errors)
     weights = []

@@ -30,13 +30,13 @@ import importlib.util
 import io
 import math
 import os
-import tempfile
 from collections.abc import Sequence
 from pathlib import Path
 from typing import Any
 from xml.sax.saxutils import escape
 
 from . import __version__
+from .atomic import atomic_path
 from .budget import Budget, forward_budget
 from .design import Design, OpenPart
 from .errors import DesignError, ResplanError
@@ -1263,12 +1263,7 @@ def write_report(
     if design.sha256:
         footer += f" · design SHA-256 {design.sha256[:12]}…"
 
-    fd, temp_name = tempfile.mkstemp(
-        dir=target.parent, prefix=f".{target.name}.", suffix=".partial"
-    )
-    os.close(fd)
-    temp = Path(temp_name)
-    try:
+    with atomic_path(target) as temp:
         doc = BaseDocTemplate(
             str(temp),
             pagesize=pagesize,
@@ -1286,8 +1281,4 @@ def write_report(
         doc.build(story, canvasmaker=_canvas_class(footer, w.f["regular"], w.unicode))
         if figures_dir is not None:
             save_figures(figs, figures_dir, dpi=dpi, pngs=pngs)
-        os.replace(temp, target)
-    except BaseException:
-        temp.unlink(missing_ok=True)
-        raise
     return target
