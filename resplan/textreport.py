@@ -223,7 +223,7 @@ def format_budget(budget: Budget, design: Design | None = None, *, ascii_only: b
     lines += _table(res, set())
     lines.append(f"  ADC range used by the sensor span: {format_percent(budget.adc_range_used)}")
     lines.append(
-        "  ADC alone (its own noise and quantisation, after the digital filter): "
+        "  ADC alone (its own noise and quantisation, at its own data rate): "
         f"ENOB {format_bits(budget.adc_enob)}"
     )
     eng = engineering_figures(budget)
