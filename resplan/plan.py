@@ -595,7 +595,9 @@ def _amplifier_rows(slot: _Slot, var: float, chain: Chain, design: Design, band,
                 in_max,
                 "A/√Hz",
                 "max",
-                f"1/f corner {fc_i:g} Hz; {_band_text(nb)}",
+                f"1/f corner {fc_i:g} Hz"
+                + ("" if "in_corner_hz" in part.known else " (assumed: state it)")
+                + f"; {_band_text(nb)}",
                 "i_n = e_allowed / R_source",
             ),
             PartRequirement(

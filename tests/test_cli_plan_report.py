@@ -141,3 +141,74 @@ def test_report_bad_design_leaves_no_file(runner, tmp_path):
     assert result.exit_code == 2
     assert out.read_bytes() == b"old report"
     assert [p.name for p in tmp_path.iterdir() if p.name.startswith(".")] == []
+
+
+ALL_OPEN = """
+# Every part open: an invented bridge at the first day of a project.
+[meta]
+title = "every part open (invented)"
+
+[requirement]
+span = "10 mV"
+noise_free_counts = 20000
+f_low = "0.01 Hz"
+data_rate = "10 Hz"
+
+[sensor]
+resistance = "350 ohm"
+
+[[stages]]
+type = "amplifier"
+name = "front end"
+open = true
+
+[[stages]]
+type = "active_filter"
+name = "anti-alias filter"
+open = true
+
+[[stages]]
+type = "amplifier"
+name = "driver"
+open = true
+gain = 1
+
+[reference]
+open = true
+voltage = "2.5 V"
+
+[adc]
+open = true
+architecture = "delta-sigma"
+full_scale_range = "5 V"
+sample_rate = "256 kHz"
+data_rate = "10 Hz"
+
+[digital]
+decimation = "sinc3"
+"""
+
+
+def test_plan_with_every_part_open(runner, tmp_path):
+    path = write(tmp_path, "open.toml", ALL_OPEN)
+    result = runner.invoke(main, ["plan", path])
+    no_traceback(result)
+    assert result.exit_code == 0, result.output
+    data = json.loads(runner.invoke(main, ["plan", path, "--json"]).stdout)
+    kinds = sorted(a["kind"] for a in data["allocations"])
+    assert kinds == ["adc", "amplifier", "amplifier", "filter", "reference"]
+    quantities = " | ".join(r["quantity"] for r in data["requirements"])
+    for figure in (
+        "white voltage noise e_n",
+        "output noise density",
+        "attenuation at",
+        "order for a cut-off",
+        "SNR",
+        "ENOB",
+        "noise relative to V_ref",
+        "front-end gain the ADC range allows",
+    ):
+        assert figure in quantities
+    # Every assumption the planner made is stated.
+    assumed = " ".join(data["assumptions"])
+    assert "gain not stated" in assumed and "cut-off not stated" in assumed
