@@ -27,18 +27,7 @@ from pathlib import Path
 sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
 
 from resplan import (  # noqa: E402
-    ADC,
-    ActiveFilter,
     Band,
-    DigitalPath,
-    IntegratedAmplifier,
-    NoiseAtRate,
-    NoiseDensity,
-    NonInvertingStage,
-    RCFilter,
-    Reference,
-    Sensor,
-    SincFilter,
     bandwidth,
     forward_budget,
     responses,
@@ -50,49 +39,11 @@ GRID_POINTS = 2000
 
 
 def invented_chain() -> Chain:
-    """An INVENTED four-stage chain (demo values, no real part)."""
-    rate = 512_000.0
-    return Chain(
-        Sensor(span_v=20e-3, resistance_ohm=1e3, bipolar=True, name="invented sensor"),
-        (
-            IntegratedAmplifier(
-                "invented in-amp",
-                gain=10.0,
-                input_noise=NoiseDensity(8e-9, 5.0),
-                output_noise=NoiseDensity(60e-9, 20.0),
-                current_noise=NoiseDensity(0.1e-12, 10.0),
-                bandwidth_hz=200e3,
-            ),
-            NonInvertingStage(
-                "invented gain stage",
-                rf_ohm=9e3,
-                rg_ohm=1e3,
-                en=NoiseDensity(5e-9, 3.0),
-                in_plus=NoiseDensity(0.5e-12, 50.0),
-                gbw_hz=10e6,
-            ),
-            ActiveFilter(
-                "invented anti-alias",
-                "butterworth",
-                4,
-                20e3,
-                noise_resistance_ohm=2e3,
-                en=NoiseDensity(6e-9, 10.0),
-            ),
-            RCFilter("invented RC", 50.0, 10e-9),
-        ),
-        ADC(
-            "invented delta-sigma ADC",
-            "delta-sigma",
-            24,
-            5.0,
-            rate,
-            NoiseAtRate(1.5e-6, 1000.0),
-            data_rate_hz=1000.0,
-        ),
-        Reference(2.5, NoiseDensity(40e-9, 5.0), filter_cutoff_hz=10.0),
-        DigitalPath((SincFilter(3, 512, rate),)),
-    )
+    """The INVENTED four-stage chain the tests use (tests/conftest.py), demo values only."""
+    sys.path.insert(0, str(Path(__file__).resolve().parent.parent / "tests"))
+    from conftest import invented_four_stage_chain
+
+    return invented_four_stage_chain()
 
 
 def clear_caches() -> None:
