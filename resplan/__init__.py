@@ -6,12 +6,8 @@ and write a requirements appendix. Everything inside is SI; see
 ``docs/formulas.md`` for every formula and its source.
 """
 
-from importlib.metadata import PackageNotFoundError, version
-
-try:
-    __version__ = version("resplan")
-except PackageNotFoundError:  # pragma: no cover - running from a source tree
-    __version__ = "0.0.0+unknown"
+# The one place the version is written; pyproject.toml reads it from here.
+__version__ = "0.1.0"
 
 from .bandwidth import DigitalPath, NoiseBandwidth, integrate_psd, noise_bandwidth
 from .budget import Budget, Contribution, forward_budget
