@@ -8,8 +8,8 @@ from dataclasses import dataclass
 from .bandwidth import DigitalPath, noise_bandwidth
 from .converter import ADC
 from .errors import DesignError
-from .responses import SincFilter
-from .stages import AnalogStage, Reference, Sensor, check_positive
+from .responses import AnalogLowpass, SincFilter
+from .stages import AnalogStage, RCFilter, Reference, Sensor, check_positive
 
 __all__ = ["Band", "Chain", "ROOM_TEMPERATURE_K"]
 
@@ -116,11 +116,25 @@ class Chain:
         """DC gain from the sensor to the ADC input, V/V."""
         return self.gain_before(len(self.stages))
 
-    def responses_from(self, index: int):
+    def stage_responses(self, index: int) -> tuple[AnalogLowpass, ...]:
+        """Analog responses of stage ``index`` as it sits in the chain.
+
+        A passive RC's pole is set by everything in series with its capacitor: its
+        own resistor plus the source resistance ahead of it,
+        f_c = 1/(2π(R + R_source)C); the other stages' responses do not depend on
+        what drives them (their inputs are taken as high-impedance).
+        """
+        stage = self.stages[index]
+        if isinstance(stage, RCFilter):
+            r_total = stage.resistance_ohm + self.resistance_seen_by(index)
+            return (AnalogLowpass("rc", 1, 1.0 / (2.0 * math.pi * r_total * stage.capacitance_f)),)
+        return stage.responses
+
+    def responses_from(self, index: int) -> tuple[AnalogLowpass, ...]:
         """Analog responses from stage ``index`` (inclusive) to the ADC."""
-        out = []
-        for stage in self.stages[index:]:
-            out.extend(stage.responses)
+        out: list[AnalogLowpass] = []
+        for j in range(index, len(self.stages)):
+            out.extend(self.stage_responses(j))
         return tuple(out)
 
     def resistance_seen_by(self, index: int) -> float:

@@ -179,12 +179,15 @@ def test_current_noise_sees_passive_filter_resistance_and_not_through_an_active_
 
 @pytest.mark.parametrize("resistance_ohm", [1e3, 100e3])
 def test_rc_filter_alone_integrates_to_ktc_independent_of_r(resistance_ohm):
-    # kT/C (DOMAIN.md §2; Motchenbacher & Connelly ch. 1): 4kTR over the RC's own ENBW
-    # 1/(4RC) is kT/C whatever R. 1 nF at 300 K: 2.035 µV rms. The f_L = 0.01 Hz left out
-    # of the integral is below 1e-5 of either band; tolerance 3e-5.
+    # kT/C (DOMAIN.md §2; Motchenbacher & Connelly ch. 1): the thermal noise of all the
+    # resistance in series with C, over that RC's ENBW 1/(4(R+R_s)C), is kT/C whatever R.
+    # Here the source (R_s) and the filter resistor share it in proportion to R.
+    # 1 nF at 300 K: 2.035 µV rms. The f_L = 0.01 Hz left out of the integral is below
+    # 1e-5 of either band; tolerance 3e-5.
     c = 1e-9
+    r_source = 1.0
     chain = Chain(
-        Sensor(1.0, 1.0),
+        Sensor(1.0, r_source),
         (RCFilter("invented RC", resistance_ohm, c),),
         _sar(),
         None,
@@ -192,8 +195,13 @@ def test_rc_filter_alone_integrates_to_ktc_independent_of_r(resistance_ohm):
     )
     got = _by_name(forward_budget(chain, Band(F_LOW)))
     rc = got[("invented RC", "thermal noise of R")]
-    assert rc.rms_v == pytest.approx(math.sqrt(K_B * T / c), rel=RTOL)
-    assert rc.rms_v == pytest.approx(2.035e-6, rel=1e-3)
+    source = got[("sensor", "thermal noise of source resistance")]
+    ktc = K_B * T / c
+    assert math.hypot(rc.rms_v, source.rms_v) == pytest.approx(math.sqrt(ktc), rel=RTOL)
+    assert rc.rms_v**2 == pytest.approx(
+        ktc * resistance_ohm / (resistance_ohm + r_source), rel=RTOL
+    )
+    assert math.hypot(rc.rms_v, source.rms_v) == pytest.approx(2.035e-6, rel=1e-3)
 
 
 def test_sensor_temperature_sets_its_thermal_noise():

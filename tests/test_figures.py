@@ -47,7 +47,7 @@ FEW_COUNTS = (1, 2, 4)
 
 
 def invented_rc_chain(**overrides) -> Chain:
-    """INVENTED: 10 kΩ source → RC (1 kΩ, 100 nF, 1.59 kHz) → 16-bit SAR at 1 MHz, no digital."""
+    """INVENTED: 10 kΩ source → RC (1 kΩ, 100 nF: 145 Hz with the source) → 16-bit SAR, 1 MHz."""
     defaults = dict(
         sensor=Sensor(span_v=1.0, resistance_ohm=10e3, name="invented source"),
         stages=(RCFilter("invented RC", 1e3, 100e-9),),
@@ -110,7 +110,7 @@ def test_cumulative_of_rc_filtered_thermal_noise_follows_the_arctangent():
     budget = forward_budget(chain, Band(0.01))
     spectra = noise_spectra(chain, budget)
     source = next(c for c in spectra.contributors if c.stage == "invented source")
-    fc = chain.stages[0].cutoff_hz
+    fc = chain.stage_responses(0)[0].cutoff_hz  # the RC pole with the source in series
     e2 = 4 * BOLTZMANN_J_PER_K * chain.temperature_k * 10e3
     f = spectra.edges_hz[1:]
     expected = e2 * fc * (np.arctan(f / fc) - np.arctan(0.01 / fc))
@@ -123,11 +123,14 @@ def test_unfolded_tail_of_rc_noise_is_the_final_step():
     # stops at 100 f_c. The missing tail is e²·f_c·(π/2 − atan(100)) for each RC-shaped
     # density source (same standard integral), and the final step carries exactly it.
     # A noiseless 24-bit converter keeps the tail above the 0.1 % the curve may round off.
-    chain = invented_rc_chain(adc=ADC("invented SAR", "sar", 24, 5.0, 1e6, TransitionNoise(0.0)))
+    chain = invented_rc_chain(
+        sensor=Sensor(span_v=1.0, resistance_ohm=10.0, name="invented source"),
+        adc=ADC("invented SAR", "sar", 24, 5.0, 1e6, TransitionNoise(0.0)),
+    )
     budget = forward_budget(chain, Band(0.01))
     spectra = noise_spectra(chain, budget)
     cumulative = cumulative_noise(spectra, budget)
-    fc = chain.stages[0].cutoff_hz
+    fc = chain.stage_responses(0)[0].cutoff_hz  # the RC pole with the source in series
     top = spectra.f_top_hz
     tail = 0.0
     for c in budget.contributions:
