@@ -120,6 +120,8 @@ class Budget:
     reference_note: str
     requirement: Requirement | None = None
     warnings: tuple[str, ...] = field(default_factory=tuple)
+    #: The sensor's output range at the ADC (offset included) leaves its input window.
+    outside_window: bool = False
 
     @property
     def k_pp(self) -> float:
@@ -191,7 +193,8 @@ class Budget:
 
     @property
     def overloaded(self) -> bool:
-        return self.adc_range_used > 1.0 + 1e-12
+        """The span needs more than the ADC range, or leaves its input window."""
+        return self.adc_range_used > 1.0 + 1e-12 or self.outside_window
 
     @property
     def allowed_rms_v(self) -> float | None:
@@ -235,6 +238,7 @@ class Budget:
             "dynamic_range_db": self.dynamic_range_db,
             "adc_enob": self.adc_enob,
             "adc_range_used": self.adc_range_used,
+            "outside_adc_window": self.outside_window,
             "gain": self.gain,
             "span_v": self.span_v,
             "temperature_k": self.temperature_k,
@@ -426,12 +430,24 @@ def forward_budget(
         requirement=requirement,
         warnings=(),
     )
-    if budget.overloaded:
+    if budget.adc_range_used > 1.0 + 1e-12:
         warnings.append(
             f"the sensor span at the ADC is {budget.adc_range_used:.3g} of its full-scale range: "
             "the ADC overloads; lower the gain"
         )
-    return Budget(**{**budget.__dict__, "warnings": tuple(warnings)})
+    outside = False
+    window = chain.adc.input_window_v
+    low, high = (v * chain.total_gain for v in sensor.output_range_v)
+    if window is not None and (
+        low < window[0] - 1e-12 * abs(window[1]) or high > window[1] * (1 + 1e-12)
+    ):
+        outside = True
+        warnings.append(
+            f"the sensor output at the ADC runs from {low:.4g} V to {high:.4g} V, outside its "
+            f"{chain.adc.input_polarity} input window {window[0]:.4g} V … {window[1]:.4g} V: "
+            "shift the offset or change the gain"
+        )
+    return Budget(**{**budget.__dict__, "warnings": tuple(warnings), "outside_window": outside})
 
 
 def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> None:

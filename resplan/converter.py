@@ -193,6 +193,9 @@ class ADC:
         Output data rate, Hz. Equal to the sample rate for a SAR.
     gain : float
         Internal gain setting, V/V; noise quoted at another gain is refused.
+    input_polarity : {"unipolar", "bipolar"} or None
+        Whether the input window is 0…FSR or ±FSR/2; when given, the budget checks
+        that the sensor's whole output range (offset included) fits the window.
     """
 
     name: str
@@ -203,8 +206,11 @@ class ADC:
     noise: AdcNoise
     data_rate_hz: float | None = None
     gain: float = 1.0
+    input_polarity: str | None = None
 
     def __post_init__(self) -> None:
+        if self.input_polarity not in (None, "unipolar", "bipolar"):
+            raise DesignError("input_polarity", self.input_polarity, "unipolar or bipolar")
         if self.architecture not in ARCHITECTURES:
             raise DesignError("architecture", self.architecture, "one of sar, delta-sigma")
         if (
@@ -240,6 +246,15 @@ class ADC:
     def output_rate_hz(self) -> float:
         """The converter's own output rate, Hz, before any post-averaging."""
         return self.data_rate_hz if self.data_rate_hz is not None else self.sample_rate_hz
+
+    @property
+    def input_window_v(self) -> tuple[float, float] | None:
+        """Lowest and highest input it converts, V, when its polarity is known."""
+        if self.input_polarity == "unipolar":
+            return 0.0, self.full_scale_range_v
+        if self.input_polarity == "bipolar":
+            return -self.full_scale_range_v / 2, self.full_scale_range_v / 2
+        return None
 
     @property
     def lsb_v(self) -> float:

@@ -96,13 +96,19 @@ class Sensor:
     resistance_ohm : float
         Output (source) resistance, Ω (> 0); its thermal noise is counted.
     bipolar : bool
-        The output swings both ways about zero (±span/2) rather than 0…span.
+        The output swings both ways about ``offset_v`` (±span/2) rather than
+        from ``offset_v`` up by the span.
     noise : NoiseDensity, optional
         The sensor's own noise beyond the thermal noise of its resistance, V/√Hz.
     temperature_k : float, optional
         Temperature of the sensor, K; the chain's temperature when omitted.
     name : str
         Label used in the budget.
+    offset_v : float
+        Output at the bottom of the span (unipolar) or at its middle (bipolar), V:
+        an RTD's voltage at the lowest temperature measured, a bridge's zero offset.
+        It moves the input window the ADC must hold and the largest input the
+        reference noise acts on.
     """
 
     span_v: float
@@ -111,17 +117,28 @@ class Sensor:
     noise: NoiseDensity | None = None
     temperature_k: float | None = None
     name: str = "sensor"
+    offset_v: float = 0.0
 
     def __post_init__(self) -> None:
         check_positive("span", self.span_v, "a full-scale output span > 0 V")
         check_positive("resistance", self.resistance_ohm, "a source resistance > 0 ohm")
+        if not (_is_number(self.offset_v) and math.isfinite(self.offset_v)):
+            raise DesignError("offset", self.offset_v, "a finite offset voltage, V")
         if self.temperature_k is not None:
             check_positive("temperature", self.temperature_k, "a temperature above 0 K")
 
     @property
+    def output_range_v(self) -> tuple[float, float]:
+        """Lowest and highest output, V."""
+        if self.bipolar:
+            return self.offset_v - self.span_v / 2, self.offset_v + self.span_v / 2
+        return self.offset_v, self.offset_v + self.span_v
+
+    @property
     def peak_v(self) -> float:
-        """Largest |output|, V: span/2 when bipolar, else span."""
-        return self.span_v / 2 if self.bipolar else self.span_v
+        """Largest |output|, V: span/2 when bipolar about zero, span when unipolar from zero."""
+        low, high = self.output_range_v
+        return max(abs(low), abs(high))
 
 
 @dataclass(frozen=True)
