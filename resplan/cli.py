@@ -139,6 +139,8 @@ def main() -> None:
       resplan check my-scale.toml          # exit 0 meets, 1 does not, 2 bad input
       resplan check my-scale.toml --json   # the same as JSON
       resplan schema > resplan-schema.json # for editor completion
+      resplan plan kickoff.toml            # backward: the limit for every open part
+      resplan report my-scale.toml -o my-scale.pdf   # the PDF requirements appendix
 
     The numbers are estimates from typical data; verify on the bench. Sensors on
     mains or high voltage need isolation and protection that no noise budget
