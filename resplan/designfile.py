@@ -283,11 +283,8 @@ class NonInvertingTable(_StageTable):
     gain: Number = _field("Gain of an open stage (a given stage's gain is 1 + rf/rg).", 10)
     en: Quantity = _field("Input voltage noise density, white part.", "4.5 nV/√Hz")
     en_corner: Quantity = _field("1/f corner of en (default 0 Hz).", "5 Hz")
-    in_: Quantity = Field(
-        None,
-        alias="in",
-        description="Input current noise density (both inputs unless in_minus).",
-        examples=["0.5 pA/√Hz"],
+    in_: Quantity = _field(
+        "Input current noise density (both inputs unless in_minus).", "0.5 pA/√Hz", alias="in"
     )
     in_corner: Quantity = _field("1/f corner of the current noise (default 0 Hz).", "50 Hz")
     in_minus: Quantity = _field("Current noise of the inverting input, if different.", "0.4 pA/√Hz")
@@ -306,9 +303,7 @@ class AmplifierTable(_StageTable):
         "Output-stage voltage noise density (divided by the gain).", "90 nV/√Hz"
     )
     en_out_corner: Quantity = _field("1/f corner of en_out (default 0 Hz).", "10 Hz")
-    in_: Quantity = Field(
-        None, alias="in", description="Input current noise density.", examples=["0.3 pA/√Hz"]
-    )
+    in_: Quantity = _field("Input current noise density.", "0.3 pA/√Hz", alias="in")
     in_corner: Quantity = _field("1/f corner of the current noise (default 0 Hz).", "10 Hz")
     bandwidth: Quantity = _field("−3 dB bandwidth at this gain (a single pole).", "50 kHz")
 
@@ -669,6 +664,15 @@ def _close(a: float, b: float) -> bool:
     return math.isclose(a, b, rel_tol=1e-6)
 
 
+def _below(x: float, minimum: str | None) -> bool:
+    """``x`` fails ``minimum`` (``"> 0"``, ``"≥ 0"`` or None for no bound)."""
+    return minimum == "> 0" and not x > 0 or minimum == "≥ 0" and not x >= 0
+
+
+#: Why a noise field of an open part is refused.
+_OPEN = "not used for an open part (the planner sets it); remove it or set open = false"
+
+
 class _Reader:
     """Turns the checked tables into core objects, collecting every problem."""
 
@@ -692,6 +696,37 @@ class _Reader:
             self.errors.append(err.with_context(prefix=path) if path else err)
             return None
 
+    def parse(self, read: Callable[..., Any], *args: Any) -> Any:
+        """Call a parser of :mod:`resplan.units`; its error is recorded as is, None returned."""
+        return self.build("", read, *args)
+
+    def refuse(self, table: BaseModel, path: str, keys: typing.Iterable[str], why: str) -> None:
+        for key in keys:
+            value = getattr(table, key)
+            if value is not None:
+                alias = type(table).model_fields[key].alias or key
+                self.bad(f"{path}.{alias}", value, why)
+
+    def refuse_open(self, table: BaseModel, path: str, keys: typing.Iterable[str]) -> None:
+        """Refuse the noise fields of an open part: the planner sets them."""
+        self.refuse(table, path, keys, _OPEN)
+
+    def one_of(
+        self, table: BaseModel, path: str, keys: tuple[str, ...], expected: str, missing: str
+    ) -> str | None:
+        """The one field of ``keys`` that ``table`` gives, or None with the problem recorded.
+
+        With two or more given, the second is refused; with none, ``missing`` is.
+        """
+        given = [k for k in keys if getattr(table, k) is not None]
+        if len(given) == 1:
+            return given[0]
+        if given:
+            self.bad(f"{path}.{given[1]}", getattr(table, given[1]), expected)
+        else:
+            self.missing(f"{path}.{missing}", expected)
+        return None
+
     # -- values ------------------------------------------------------------
     def q(
         self,
@@ -709,12 +744,10 @@ class _Reader:
             if required:
                 self.missing(path, f"{what} such as {_EXAMPLE.get(dimension, '')}".strip())
             return default
-        try:
-            x = parse_quantity(value, dimension, path)
-        except DesignError as err:
-            self.errors.append(err)
+        x = self.parse(parse_quantity, value, dimension, path)
+        if x is None:
             return None
-        if minimum == "> 0" and not x > 0 or minimum == "≥ 0" and not x >= 0:
+        if _below(x, minimum):
             unit = DIMENSIONS[dimension].si_unit
             self.bad(path, value, f"{what} {minimum}{' ' + unit if unit else ''}")
             return None
@@ -739,7 +772,7 @@ class _Reader:
         except DesignError:
             self.bad(path, value, what)
             return None
-        if minimum == "> 0" and not x > 0 or minimum == "≥ 0" and not x >= 0:
+        if _below(x, minimum):
             self.bad(path, value, what)
             return None
         return x
@@ -764,12 +797,15 @@ class _Reader:
             return None
         return NoiseDensity(w, c)
 
-    def refuse(self, table: BaseModel, path: str, keys: typing.Iterable[str], why: str) -> None:
-        for key in keys:
-            value = getattr(table, key)
-            if value is not None:
-                alias = type(table).model_fields[key].alias or key
-                self.bad(f"{path}.{alias}", value, why)
+    def pp_factor(self, value: Any, path: str) -> float | None:
+        """The factor a peak-to-peak figure was quoted with; required, none is assumed."""
+        return self.number(
+            value,
+            f"{path}.pp_factor",
+            "the peak-to-peak factor the figure was "
+            "quoted with, such as 6.6 (a p-p figure is refused without it)",
+            required=True,
+        )
 
 
 # ---------------------------------------------------------------------------
@@ -802,36 +838,30 @@ def _requirement(r: _Reader, t: RequirementTable) -> tuple[Requirement | None, f
 
     capacity = capacity_unit = None
     if t.capacity is not None:
-        try:
-            capacity, capacity_unit = parse_any(t.capacity, f"{p}.capacity")
-        except DesignError as err:
-            r.errors.append(err)
-        else:
+        read = r.parse(parse_any, t.capacity, f"{p}.capacity")
+        if read is not None:
+            capacity, capacity_unit = read
             if not capacity > 0 or not _unit_text(t.capacity):
                 r.bad(
                     f"{p}.capacity", t.capacity, 'a full scale > 0 with its unit, such as "200 kg"'
                 )
                 capacity = None
 
-    given = [
-        k
-        for k in ("noise_free_counts", "noise_free_bits", "resolution", "dynamic_range")
-        if getattr(t, k) is not None
-    ]
+    form = r.one_of(
+        t,
+        p,
+        ("noise_free_counts", "noise_free_bits", "resolution", "dynamic_range"),
+        "exactly one of noise_free_counts, noise_free_bits, resolution, dynamic_range",
+        "resolution",
+    )
     counts = dr = None
     unit_shown = _unit_text(t.capacity) if capacity is not None else ""
-    if len(given) != 1:
-        expected = "exactly one of noise_free_counts, noise_free_bits, resolution, dynamic_range"
-        if given:
-            r.bad(f"{p}.{given[1]}", getattr(t, given[1]), expected)
-        else:
-            r.missing(f"{p}.resolution", expected)
-    elif given[0] == "noise_free_counts":
+    if form == "noise_free_counts":
         counts = r.number(t.noise_free_counts, f"{p}.noise_free_counts", "a count ≥ 1")
         if counts is not None and counts < 1:
             r.bad(f"{p}.noise_free_counts", t.noise_free_counts, "a count ≥ 1")
             counts = None
-    elif given[0] == "noise_free_bits":
+    elif form == "noise_free_bits":
         bits = r.number(
             t.noise_free_bits,
             f"{p}.noise_free_bits",
@@ -842,12 +872,10 @@ def _requirement(r: _Reader, t: RequirementTable) -> tuple[Requirement | None, f
             r.bad(f"{p}.noise_free_bits", t.noise_free_bits, "a number of bits from 0 to 64")
         elif bits is not None:
             counts = 2.0**bits
-    elif given[0] == "resolution":
-        try:
-            res, res_unit = parse_any(t.resolution, f"{p}.resolution")
-        except DesignError as err:
-            r.errors.append(err)
-        else:
+    elif form == "resolution":
+        read = r.parse(parse_any, t.resolution, f"{p}.resolution")
+        if read is not None:
+            res, res_unit = read
             if t.capacity is None:
                 r.missing(
                     f"{p}.capacity",
@@ -869,22 +897,14 @@ def _requirement(r: _Reader, t: RequirementTable) -> tuple[Requirement | None, f
                     counts = None
                 else:
                     unit_shown = _unit_text(t.resolution)
-    else:
-        try:
-            dr = parse_db(t.dynamic_range, f"{p}.dynamic_range")
-        except DesignError as err:
-            r.errors.append(err)
-        else:
-            if not dr > 0:
-                r.bad(f"{p}.dynamic_range", t.dynamic_range, "a dynamic range > 0 dB")
-                dr = None
+    elif form == "dynamic_range":
+        dr = r.parse(parse_db, t.dynamic_range, f"{p}.dynamic_range")
+        if dr is not None and not dr > 0:
+            r.bad(f"{p}.dynamic_range", t.dynamic_range, "a dynamic range > 0 dB")
+            dr = None
 
-    coverage = DEFAULT_COVERAGE
-    if t.coverage is not None:
-        try:
-            coverage = parse_percent(t.coverage, f"{p}.coverage")
-        except DesignError as err:
-            r.errors.append(err)
+    read = r.parse(parse_percent, t.coverage, f"{p}.coverage") if t.coverage is not None else None
+    coverage = DEFAULT_COVERAGE if read is None else read
     interference = r.q(t.interference, "voltage", f"{p}.interference", minimum="≥ 0", default=0.0)
 
     if span is None or (counts is None and dr is None) or interference is None:
@@ -897,7 +917,7 @@ def _requirement(r: _Reader, t: RequirementTable) -> tuple[Requirement | None, f
             unit_si = 0.0
         if unit_si > 0:
             engineering_per_volt = capacity / unit_si / span
-    description = t.description or _describe(t, counts, given[0], coverage)
+    description = t.description or _describe(t, counts, form, coverage)
     req = r.build(
         "",
         Requirement,
@@ -952,10 +972,6 @@ def _sensor(r: _Reader, t: SensorTable, span: float | None) -> Sensor | None:
     )
 
 
-_OPEN = "not used for an open part (the planner sets it); remove it or set open = false"
-_GIVEN_ONLY = "only for an open part"
-
-
 def _stage(r: _Reader, i: int, t: _StageTable) -> Any:
     p = f"stages[{i}]"
     name = t.name or f"stage {i + 1}"
@@ -975,7 +991,7 @@ def _noninverting(r: _Reader, p: str, name: str, t: NonInvertingTable) -> Any:
     en_c = r.q(t.en_corner, "frequency", f"{p}.en_corner", minimum="≥ 0", default=0.0)
     in_c = r.q(t.in_corner, "frequency", f"{p}.in_corner", minimum="≥ 0", default=0.0)
     if t.open:
-        r.refuse(t, p, ("en", "in_", "in_minus", "in_minus_corner"), _OPEN)
+        r.refuse_open(t, p, ("en", "in_", "in_minus", "in_minus_corner"))
         known: dict[str, Any] = {}
         gain = r.number(t.gain, f"{p}.gain", "a gain > 0 V/V")
         if t.gain is not None and t.rf is not None:
@@ -1029,7 +1045,7 @@ def _amplifier(r: _Reader, p: str, name: str, t: AmplifierTable) -> Any:
     en_c = r.q(t.en_corner, "frequency", f"{p}.en_corner", minimum="≥ 0", default=0.0)
     in_c = r.q(t.in_corner, "frequency", f"{p}.in_corner", minimum="≥ 0", default=0.0)
     if t.open:
-        r.refuse(t, p, ("en", "en_out", "en_out_corner", "in_"), _OPEN)
+        r.refuse_open(t, p, ("en", "en_out", "en_out_corner", "in_"))
         known: dict[str, Any] = {}
         _put(known, "gain", gain, t.gain)
         _put(known, "bandwidth_hz", bandwidth, t.bandwidth)
@@ -1088,7 +1104,7 @@ def _active_filter(r: _Reader, p: str, name: str, t: ActiveFilterTable) -> Any:
     cutoff = r.q(t.cutoff, "frequency", f"{p}.cutoff", required=need, minimum="> 0")
     gain = r.number(t.gain, f"{p}.gain", "a pass-band gain > 0 V/V", default=1.0)
     if t.open:
-        r.refuse(t, p, ("noise_resistance", "en", "en_corner"), _OPEN)
+        r.refuse_open(t, p, ("noise_resistance", "en", "en_corner"))
         known: dict[str, Any] = {}
         _put(known, "response", t.response, t.response)
         _put(known, "order", t.order, t.order)
@@ -1115,7 +1131,7 @@ def _reference(r: _Reader, t: ReferenceTable) -> Any:
     cutoff = r.q(t.filter_cutoff, "frequency", f"{p}.filter_cutoff", minimum="> 0")
     corner = r.q(t.noise_corner, "frequency", f"{p}.noise_corner", minimum="≥ 0")
     if t.open:
-        r.refuse(t, p, ("noise", "noise_pp", "pp_factor", "noise_band", "noise_density"), _OPEN)
+        r.refuse_open(t, p, ("noise", "noise_pp", "pp_factor", "noise_band", "noise_density"))
         if t.ratiometric:
             r.bad(
                 f"{p}.ratiometric",
@@ -1163,13 +1179,7 @@ def _reference(r: _Reader, t: ReferenceTable) -> Any:
 def _band_noise(r: _Reader, t: ReferenceTable, p: str, corner: float | None) -> Any:
     if t.noise_pp is not None:
         value = r.q(t.noise_pp, "voltage", f"{p}.noise_pp", minimum="≥ 0")
-        k = r.number(
-            t.pp_factor,
-            f"{p}.pp_factor",
-            "the peak-to-peak factor the figure was "
-            "quoted with, such as 6.6 (a p-p figure is refused without it)",
-            required=True,
-        )
+        k = r.pp_factor(t.pp_factor, p)
         rms = None if value is None or k is None else value / k
         if rms is not None:
             r.notes.append(f"reference noise {t.noise_pp} p-p divided by the stated factor {k:g}")
@@ -1222,7 +1232,7 @@ def _adc(r: _Reader, t: AdcTable, reference: Any, ref_table: ReferenceTable | No
         r.missing(f"{p}.data_rate", 'the output data rate of a delta-sigma ADC, such as "10 Hz"')
     fsr = _full_scale(r, t, gain, reference, ref_table, need)
     if t.open:
-        r.refuse(
+        r.refuse_open(
             t,
             p,
             (
@@ -1240,7 +1250,6 @@ def _adc(r: _Reader, t: AdcTable, reference: Any, ref_table: ReferenceTable | No
                 "noise_density",
                 "noise_corner",
             ),
-            _OPEN,
         )
         known: dict[str, Any] = {}
         _put(known, "architecture", t.architecture, t.architecture)
@@ -1325,15 +1334,11 @@ _NOISE_FORMS = (
 
 def _adc_noise(r: _Reader, t: AdcTable, gain: float | None) -> Any:
     p = "adc"
-    forms = [k for k in _NOISE_FORMS if getattr(t, k) is not None]
-    if len(forms) != 1:
-        expected = "exactly one noise figure: " + ", ".join(_NOISE_FORMS)
-        if forms:
-            r.bad(f"{p}.{forms[1]}", getattr(t, forms[1]), expected)
-        else:
-            r.missing(f"{p}.noise", expected)
+    form = r.one_of(
+        t, p, _NOISE_FORMS, "exactly one noise figure: " + ", ".join(_NOISE_FORMS), "noise"
+    )
+    if form is None:
         return None
-    form = forms[0]
     rate_forms = ("noise", "noise_pp")
     table_forms = ("noise_table", "noise_table_pp")
     if form not in rate_forms:
@@ -1357,13 +1362,7 @@ def _adc_noise(r: _Reader, t: AdcTable, gain: float | None) -> Any:
     pp = form in ("noise_pp", "noise_table_pp")
     k = None
     if pp:
-        k = r.number(
-            t.pp_factor,
-            f"{p}.pp_factor",
-            "the peak-to-peak factor the figure was "
-            "quoted with, such as 6.6 (a p-p figure is refused without it)",
-            required=True,
-        )
+        k = r.pp_factor(t.pp_factor, p)
     elif t.pp_factor is not None:
         r.bad(f"{p}.pp_factor", t.pp_factor, "a factor only with noise_pp or noise_table_pp")
     noise_gain = None
@@ -1405,10 +1404,8 @@ def _adc_noise(r: _Reader, t: AdcTable, gain: float | None) -> Any:
             rows = [(a, b / k) for a, b in rows]
         return r.build(p, NoiseTable, tuple(rows), noise_gain)
     if form == "snr":
-        try:
-            snr = parse_db(t.snr, f"{p}.snr")
-        except DesignError as err:
-            r.errors.append(err)
+        snr = r.parse(parse_db, t.snr, f"{p}.snr")
+        if snr is None:
             return None
         at = r.q(t.snr_sample_rate, "frequency", f"{p}.snr_sample_rate", minimum="> 0")
         if t.snr_sample_rate is not None and at is None:
