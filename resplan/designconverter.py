@@ -208,10 +208,22 @@ def read_adc(r: TableReader, t: AdcTable, reference: Any, ref_table: ReferenceTa
         return None
     if t.data_rate is not None and data_rate is None:
         return None
-    adc = r.build(p, ADC, name, t.architecture, t.bits, fsr, rate, noise, data_rate, gain)
+    polarity = _polarity(r, t)
+    adc = r.build(p, ADC, name, t.architecture, t.bits, fsr, rate, noise, data_rate, gain, polarity)
     if adc is not None:
         _check_noise_conditions(r, adc, t)
     return adc
+
+
+def _polarity(r: TableReader, t: AdcTable) -> str | None:
+    """The input window's polarity, from ``polarity`` or from ``input_range``."""
+    implied = None
+    if t.input_range is not None:
+        implied = "unipolar" if t.input_range == "unipolar" else "bipolar"
+    if t.polarity is not None and implied is not None and t.polarity != implied:
+        r.bad("adc.polarity", t.polarity, f"{implied}, as input_range = {t.input_range} implies")
+        return None
+    return t.polarity or implied
 
 
 def _full_scale(

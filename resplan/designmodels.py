@@ -172,6 +172,12 @@ class SensorTable(_Table):
     temperature: Quantity = _field(
         "Temperature of the sensor (the electronics' temperature when omitted).", "-10 degC"
     )
+    offset: Quantity = _field(
+        "Output at the bottom of the span (at its middle when bipolar), such as an RTD's "
+        "voltage at the lowest temperature measured (default 0 V). It counts in the ADC "
+        "input window and in the largest input reference noise acts on.",
+        "100 mV",
+    )
 
 
 class StageTable(_Table):
@@ -297,6 +303,11 @@ class AdcTable(_Table):
     input_range: Literal["unipolar", "bipolar", "differential"] | None = _field(
         "Range from the reference: unipolar 0…V_ref (FSR = V_ref); bipolar or differential "
         "±V_ref (FSR = 2·V_ref); divided by gain.",
+        "bipolar",
+    )
+    polarity: Literal["unipolar", "bipolar"] | None = _field(
+        "Input window: unipolar 0 … FSR or bipolar ±FSR/2 (taken from input_range when that "
+        "is given). When known, the sensor's whole output range must fit it.",
         "bipolar",
     )
     gain: Number = _field("Internal gain setting, V/V (default 1).", 128)

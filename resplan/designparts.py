@@ -385,7 +385,8 @@ def read_sensor(r: TableReader, t: SensorTable, span: float | None) -> Sensor | 
             t.noise_density, t.noise_corner, p, "noise_density", "noise_corner", required=True
         )
     temperature = r.q(t.temperature, "temperature", f"{p}.temperature", minimum="> 0")
-    if span is None or resistance is None:
+    offset = r.q(t.offset, "voltage", f"{p}.offset", default=0.0)
+    if span is None or resistance is None or offset is None:
         return None
     if (t.noise_density is not None and noise is None) or (
         t.temperature is not None and temperature is None
@@ -400,6 +401,7 @@ def read_sensor(r: TableReader, t: SensorTable, span: float | None) -> Sensor | 
         noise=noise,
         temperature_k=temperature,
         name=t.name or "sensor",
+        offset_v=offset,
     )
 
 

@@ -67,6 +67,11 @@ def verdict(budget: Budget) -> str:
     margin = budget.margin_bits
     if met is None:
         return "NO REQUIREMENT given: nothing to judge"
+    if getattr(budget, "outside_window", False):
+        return (
+            "DOES NOT MEET the requirement: the sensor output, offset included, leaves the "
+            "ADC input window (see the warnings)"
+        )
     if budget.overloaded:
         return (
             "DOES NOT MEET the requirement: the sensor span overloads the ADC "

@@ -502,3 +502,25 @@ def test_plan_with_every_part_open(runner, tmp_path):
     # Every assumption the planner made is stated.
     assumed = " ".join(data["assumptions"])
     assert "gain not stated" in assumed and "cut-off not stated" in assumed
+
+
+def test_sensor_offset_outside_the_adc_window_does_not_meet(runner, tmp_path):
+    # The soil example's RTD sits 92.3 mV above zero; 150 mV × 20 leaves a 0 … 2.5 V window.
+    text = example_text("soil-temperature")
+    assert 'offset = "92.3 mV"' in text
+    path = write(tmp_path, "s.toml", text.replace('offset = "92.3 mV"', 'offset = "150 mV"'))
+    result = runner.invoke(main, ["check", path])
+    no_traceback(result)
+    assert result.exit_code == 1
+    assert "input window" in result.stdout
+    assert result.stdout.strip().splitlines()[-1].startswith("DOES NOT MEET")
+    data = strict_json(runner.invoke(main, ["check", "--json", path]).stdout)
+    assert data["outside_adc_window"] is True and data["meets_requirement"] is False
+
+
+def test_adc_polarity_that_contradicts_the_input_range_is_refused(runner, tmp_path):
+    text = example_text("soil-temperature").replace("[adc]\n", '[adc]\npolarity = "bipolar"\n', 1)
+    result = runner.invoke(main, ["check", write(tmp_path, "s.toml", text)])
+    no_traceback(result)
+    assert result.exit_code == 2
+    assert "adc.polarity" in result.stderr and "unipolar" in result.stderr
