@@ -192,17 +192,41 @@ def _title(fig: Figure, text: str) -> None:
     )
 
 
-def _rate_axis(ax, low: float, high: float) -> None:
-    """Plain numbers on a logarithmic rate axis; minor labels only over a short span."""
-    from matplotlib.ticker import FuncFormatter, LogLocator, NullFormatter
+def _rate_label(x: float, _pos=None) -> str:
+    """A rate tick label in Hz: plain below 1000, in thousands ("25 k") above."""
+    if x >= 1000:
+        return f"{x / 1000:.3g} k"
+    return f"{x:.3g}"
 
-    plain = FuncFormatter(lambda x, _pos: f"{x:g}")
-    ax.xaxis.set_major_formatter(plain)
-    if high / low <= 30:
-        ax.xaxis.set_minor_locator(LogLocator(base=10, subs=(2.0, 5.0)))
-        ax.xaxis.set_minor_formatter(plain)
-    else:
-        ax.xaxis.set_minor_formatter(NullFormatter())
+
+#: Swept points closer than this rate ratio to one already labelled get no label or tick.
+_LABEL_RATIO = 1.35
+#: At most about this many labelled rates across the axis.
+_MAX_LABELS = 10
+
+
+def _spread(rates: Sequence[float], keep: float) -> list[float]:
+    """The rates to label: ``keep`` first, then each far enough from those kept.
+
+    Far enough is a ratio of 1.35, or more when that would put more than about ten
+    labels on the axis.
+    """
+    span = max([*rates, keep]) / min([*rates, keep])
+    step = math.log(max(_LABEL_RATIO, span ** (1 / (_MAX_LABELS - 1)) * (1 - 1e-9)))
+    kept = [keep]
+    for r in sorted(rates, key=lambda r: abs(math.log(r / keep))):
+        if all(abs(math.log(r / k)) >= step for k in kept):
+            kept.append(r)
+    return sorted(kept)
+
+
+def _swept_rate_axis(ax, ticks: Sequence[float]) -> None:
+    """A tick with a plain label at each swept rate given, and no others."""
+    from matplotlib.ticker import FixedLocator, FuncFormatter, NullLocator
+
+    ax.xaxis.set_major_locator(FixedLocator(list(ticks)))
+    ax.xaxis.set_major_formatter(FuncFormatter(_rate_label))
+    ax.xaxis.set_minor_locator(NullLocator())
 
 
 def _text_width_in(fig: Figure, labels: Sequence[str], size_pt: float) -> float:
@@ -213,6 +237,10 @@ def _text_width_in(fig: Figure, labels: Sequence[str], size_pt: float) -> float:
     prop = FontProperties(family=_STYLE["font.family"], size=size_pt)
     widths = [renderer.get_text_width_height_descent(t, prop, ismath=False)[0] for t in labels]
     return max(widths, default=0.0) / fig.dpi
+
+
+def _same_rate(a: float, b: float) -> bool:
+    return math.isclose(a, b, rel_tol=1e-9)
 
 
 def _set_caption(fig: Figure, text: str) -> None:
@@ -462,38 +490,99 @@ def _contributions_figure(budget: Budget) -> Figure:
     return fig
 
 
+#: How a data-rate sweep took the converter's noise at each rate, for the caption.
+_CARRY_TEXT = {
+    "table": "the converter's noise is the row of its noise table at each rate",
+    "white": (
+        "the converter's noise is its quoted figure carried as white noise, "
+        "√(ODR/ODR_quoted), as the design allows"
+    ),
+    "density": (
+        "the converter's noise is its input density integrated over the filters at each rate"
+    ),
+}
+
+
 def _resolution_figure(budget: Budget, sweep) -> Figure:
-    fig, ax = _new_axes(3.1, top=0.42)
+    import numpy as np
+
+    from .spectra import SWEEP_DATA_RATE
+
+    fig, ax = _new_axes(3.3, top=0.42)
+    colour = OKABE_ITO["blue"]
     rates = sweep.output_rates_hz
     bits = sweep.noise_free_bits
-    ax.semilogx(
-        rates,
-        bits,
-        color=OKABE_ITO["blue"],
+    passes = sweep.passes_band
+    by_rate = sweep.swept == SWEEP_DATA_RATE
+    k = format(sweep.k_pp, ".3g")
+    coverage = format_percent(sweep.coverage)
+    # Solid where both ends pass the signal band, dotted where either does not.
+    for i in range(len(rates) - 1):
+        both = bool(passes[i] and passes[i + 1])
+        ax.semilogx(
+            rates[i : i + 2],
+            bits[i : i + 2],
+            color=colour,
+            linewidth=1.2 if both else 0.9,
+            linestyle="-" if both else (0, (1.5, 1.5)),
+            zorder=2,
+        )
+    ax.plot(
+        rates[passes],
+        bits[passes],
         marker="o",
-        markersize=3,
-        linewidth=1.2,
-        label="noise-free bits over the sensor span",
+        markersize=4,
+        color=colour,
+        linestyle="none",
+        zorder=3,
+        label=f"noise-free bits over the sensor span ({coverage} coverage, k_pp = {k})",
     )
+    if not np.all(passes):
+        ax.plot(
+            rates[~passes],
+            bits[~passes],
+            marker="o",
+            markersize=4,
+            markerfacecolor="white",
+            markeredgecolor=colour,
+            markeredgewidth=1.0,
+            linestyle="none",
+            zorder=3,
+            label="output rate below 2 × the signal band top: the band is not passed",
+        )
+    required = sweep.required_noise_free_bits
+    span = float(np.ptp(np.append(bits, required if required is not None else bits[:1])))
+    labelled = _spread([float(r) for r in rates], budget.output_rate_hz) if len(rates) else []
     for p in sweep.points:
+        own = p is sweep.current
+        if not own and not any(_same_rate(p.output_rate_hz, r) for r in labelled):
+            continue
+        # A label just under the required line goes below its point, clear of the line.
+        below = required is not None and 0 < required - p.noise_free_bits < 0.12 * span
         ax.annotate(
-            f"N={p.averaging_count}",
+            f"{p.noise_free_bits:.2f}" if by_rate else f"N={p.averaging_count}",
             (p.output_rate_hz, p.noise_free_bits),
-            xytext=(0, 5),
+            xytext=(0, (-7 if not own else -9) if below else (6 if not own else 8)),
             textcoords="offset points",
             ha="center",
+            va="top" if below else "bottom",
             fontsize=5.8,
             color=_GREY,
         )
     ax.plot(
         [budget.output_rate_hz],
         [budget.noise_free_bits],
-        marker="o",
-        markersize=6,
+        marker="D",
+        markersize=8,
         markerfacecolor="none",
         markeredgecolor="black",
+        markeredgewidth=1.0,
         linestyle="none",
-        label="this design: " + format_bits(budget.noise_free_bits),
+        zorder=4,
+        label=(
+            f"this design: {format_bits(budget.noise_free_bits)} at "
+            f"{format_si(budget.output_rate_hz, 'Hz')}"
+        ),
     )
     if sweep.required_noise_free_bits is not None:
         ax.axhline(
@@ -501,32 +590,81 @@ def _resolution_figure(budget: Budget, sweep) -> Figure:
             color=OKABE_ITO["vermillion"],
             linestyle="--",
             linewidth=1.0,
-            label="required: " + format_bits(sweep.required_noise_free_bits),
+            label="required: "
+            + format_bits(sweep.required_noise_free_bits)
+            + " (after the interference allowance)",
         )
     if len(rates):
-        low, high = float(min(rates)), float(max(rates))
-        ax.set_xlim(low / 1.6, high * 1.6)
-        _rate_axis(ax, low / 1.6, high * 1.6)
-    ax.margins(y=0.25)
+        low, high = float(min(rates)) / 1.6, float(max(rates)) * 1.6
+        ax.set_xlim(low, high)
+        _swept_rate_axis(ax, labelled)
+        top = sweep.band_top_hz
+        if top is not None and low < 2 * top < high:
+            ax.axvspan(low, 2 * top, color=_LIGHT, alpha=0.45, linewidth=0, zorder=0.5)
+            ax.annotate(
+                "2 × signal band top",
+                (2 * top, 0.0),
+                xycoords=("data", "axes fraction"),
+                xytext=(-3, 3),
+                textcoords="offset points",
+                ha="right",
+                va="bottom",
+                fontsize=6.3,
+                color=_GREY,
+            )
+    ax.margins(y=0.2)
     ax.set_xlabel("output data rate (Hz)")
-    ax.set_ylabel("noise-free resolution (bits)")
+    ax.set_ylabel("noise-free resolution over the span (bits)")
     ax.legend(loc="best")
     _title(fig, FIGURE_TITLES["resolution_vs_rate"])
-    k = format(budget.k_pp, ".3g")
-    text = (
-        "Each point is a full forward budget of the chain with N output samples averaged "
-        f"(a first-order sinc after the converter); noise-free at k_pp = {k}. White noise "
-        "falls as 1/√N; 1/f noise does not, so the curve flattens."
+    _set_caption(fig, _resolution_caption(sweep))
+    return fig
+
+
+def _resolution_caption(sweep) -> str:
+    from .spectra import SWEEP_DATA_RATE
+
+    k = format(sweep.k_pp, ".3g")
+    if sweep.swept == SWEEP_DATA_RATE:
+        text = (
+            "Each point is a full forward budget of the chain at one of the converter's "
+            "output data rates, not a scaled estimate: "
+            + _CARRY_TEXT.get(sweep.noise_carry, "the converter's noise is taken at each rate")
+            + f"; its sinc{sweep.decimation_order} decimation ratio is "
+            f"{format_si(sweep.sample_rate_hz, 'Hz')}/ODR"
+            + (
+                "; the digital stages after it run at the new rate (an average keeps its "
+                "length, a band limit its cut-off)."
+                if sweep.post_stage_count
+                else "."
+            )
+        )
+    else:
+        text = (
+            "Each point is a full forward budget of the chain, not a scaled estimate, "
+            "with N output samples averaged (a first-order sinc after the converter)"
+            + (f": {sweep.note}" if sweep.note else "")
+            + ". White noise falls as 1/√N; 1/f noise does not, so the curve flattens."
+        )
+    text += (
+        f" Noise-free resolution over the sensor span at {format_percent(sweep.coverage)} "
+        f"coverage (k_pp = {k}); the diamond marks this design."
     )
+    if sweep.band_top_hz is not None and not all(p.passes_band for p in sweep.points):
+        text += (
+            " Hollow markers and dotted lines: output rates below twice the top of the "
+            f"signal band ({format_si(2 * sweep.band_top_hz, 'Hz')}), which no longer pass "
+            "the signal band."
+        )
     if sweep.required_noise_free_bits is not None:
         text += " The required line is after the interference allowance."
-    reasons: dict[str, list[int]] = {}
-    for n, why in sweep.skipped:
-        reasons.setdefault(why, []).append(n)
-    for why, counts in reasons.items():
-        text += " Left out (" + why + "): " + ", ".join(f"N={n}" for n in counts) + "."
-    _set_caption(fig, text)
-    return fig
+    reasons: dict[str, list[str]] = {}
+    for value, why in sweep.skipped:
+        shown = format_si(value, "Hz") if sweep.swept == SWEEP_DATA_RATE else f"N={value}"
+        reasons.setdefault(why, []).append(shown)
+    for why, values in reasons.items():
+        text += " Left out (" + why + "): " + ", ".join(values) + "."
+    return text
 
 
 def _allocation_figure(plan) -> Figure | None:
@@ -584,6 +722,7 @@ def make_figures(
     plan: Any = None,
     *,
     sweep_counts: tuple[int, ...] | None = None,
+    sweep_rates: tuple[float, ...] | None = None,
 ) -> dict[str, Figure]:
     """Draw the figures of a design's budget (and plan).
 
@@ -596,8 +735,12 @@ def make_figures(
     plan : resplan.plan.Plan, optional
         The backward allocation; adds the ``allocation`` figure.
     sweep_counts : tuple of int, optional
-        Averaging counts for the resolution figure (see
-        :func:`resplan.spectra.resolution_sweep`).
+        Averaging counts for the resolution figure when it varies the post-average
+        (see :func:`resplan.spectra.resolution_sweep`).
+    sweep_rates : tuple of float, optional
+        Converter data rates, Hz, for the resolution figure when it varies the
+        data rate (the default: each row of a noise table, or powers of two times
+        the design's rate).
 
     Returns
     -------
@@ -624,6 +767,7 @@ def make_figures(
                 design.band,
                 budget.requirement,
                 counts=sweep_counts,
+                rates=sweep_rates,
                 coverage=budget.coverage,
             )
             figs["resolution_vs_rate"] = _resolution_figure(budget, sweep)

@@ -19,8 +19,10 @@ they do not:
   budget's total. What the unfolded axis cannot show (noise from above the
   plotted range that sampling folds into the band) is reported as a final step,
   so the curve ends at the budget's total.
-- :func:`resolution_sweep` — noise-free bits against output data rate, from
-  forward budgets of chain variants with a different post-averaging count.
+- :func:`resolution_sweep` — noise-free bits against output data rate, each
+  point a full forward budget of a chain variant: at each data rate a delta-sigma
+  converter offers when its noise is known there (a table, white noise, a
+  density), else with a different post-averaging count.
 
 The shaped density of a source entering after a DC gain G is
 
@@ -36,17 +38,18 @@ to the integral.
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 
 import numpy as np
 
 from .bandwidth import DigitalPath
 from .budget import Budget, forward_budget
 from .chain import Band, Chain
+from .converter import InputNoiseDensity, NoiseAtRate, NoiseTable, SnrNoise
 from .errors import ChainError, DesignError
 from .physics import peak_to_peak_factor
-from .requirement import Requirement
-from .responses import SincFilter
+from .requirement import DEFAULT_COVERAGE, Requirement
+from .responses import IdealLowpass, SincFilter
 
 __all__ = [
     "ContributorSpectrum",
@@ -57,7 +60,10 @@ __all__ = [
     "noise_spectra",
     "cumulative_noise",
     "resolution_sweep",
+    "rate_carry",
     "DEFAULT_AVERAGING_COUNTS",
+    "SWEEP_DATA_RATE",
+    "SWEEP_AVERAGING",
 ]
 
 #: Points of the logarithmic integration grid under the plotting bins.
@@ -78,6 +84,9 @@ DEFAULT_AVERAGING_COUNTS = tuple(2**i for i in range(9))
 #: Output rates are kept at least this many times the lower band edge (common
 #: practice, no source: below it the noise band would fall under f_L).
 _MIN_RATE_OVER_F_LOW = 20.0
+#: Converter data rates are swept up to this fraction of the modulator rate, an
+#: oversampling ratio of at least 8 at the output (common practice, no source).
+_MAX_RATE_OVER_SAMPLE_RATE = 1 / 16
 
 
 @dataclass(frozen=True)
@@ -198,42 +207,108 @@ class CumulativeNoise:
 
 @dataclass(frozen=True)
 class ResolutionPoint:
-    """The budget of one chain variant in a :class:`ResolutionSweep`."""
+    """The forward budget of one chain variant in a :class:`ResolutionSweep`.
+
+    Attributes
+    ----------
+    averaging_count : int
+        Length of the post-average after the converter (1 without one).
+    data_rate_hz : float
+        The converter's own output data rate, Hz (before any post-average).
+    output_rate_hz : float
+        Rate of the final results, Hz.
+    total_rms_v, noise_free_bits, effective_bits, meets_requirement
+        From the variant's budget (noise-free and effective bits over the sensor span).
+    passes_band : bool
+        False when the output rate is below twice the top of the signal band (the
+        sampling theorem): such a variant no longer passes the band. True when the
+        band has no top.
+    budget : Budget
+        The variant's full forward budget.
+    """
 
     averaging_count: int
+    data_rate_hz: float
     output_rate_hz: float
     total_rms_v: float
     noise_free_bits: float
     effective_bits: float
     meets_requirement: bool | None
+    passes_band: bool
+    budget: Budget = field(compare=False, repr=False)
+
+
+#: What a :class:`ResolutionSweep` varies.
+SWEEP_DATA_RATE = "data rate"
+SWEEP_AVERAGING = "averaging"
 
 
 @dataclass(frozen=True)
 class ResolutionSweep:
-    """Noise-free resolution against post-averaging count and output data rate.
+    """Noise-free resolution against output data rate, from full forward budgets.
 
     Attributes
     ----------
     points : tuple of ResolutionPoint
-        In increasing averaging count; variants that cannot be built or computed
-        are left out and listed in ``skipped``.
+        In increasing data rate (data-rate sweep) or averaging count (averaging
+        sweep); variants that cannot be built or computed are left out and listed
+        in ``skipped``.
+    swept : {"data rate", "averaging"}
+        What was varied: the converter's own data rate (a delta-sigma converter whose
+        noise is known at other rates) or the post-averaging count.
     current_count : int
         The design's own averaging count (1 without averaging).
+    current_rate_hz : float
+        The design's own converter data rate, Hz.
     required_noise_free_bits : float or None
         The noise-free bits over the span at which the budget's verdict changes:
         log2(S/(k_pp·σ_allowed)), σ_allowed after the interference allowance.
-    skipped : tuple of (int, str)
-        Averaging counts left out and why.
+    skipped : tuple of (float, str)
+        Values left out and why: converter data rates in Hz when ``swept`` is
+        "data rate", averaging counts otherwise.
+    coverage : float
+        Coverage of the noise-free figures.
+    k_pp : float
+        Peak-to-peak factor at that coverage.
+    band_top_hz : float or None
+        Top of the signal band, Hz.
+    noise_carry : str
+        How the converter's noise was taken at each rate of a data-rate sweep:
+        "table" (a data-sheet row at each rate), "white" (the quoted figure carried
+        as white noise, √(ODR/ODR_quoted)) or "density" (its input density
+        integrated over each rate's filter); "" for an averaging sweep.
+    decimation_order : int or None
+        Order k of the sinc^k decimation filter in a data-rate sweep.
+    sample_rate_hz : float
+        The converter's sample (modulator) rate, Hz.
+    note : str
+        Why an averaging sweep was made instead of a data-rate sweep ("" otherwise).
+    post_stage_count : int
+        Digital stages after the converter's own output (an average, a band limit).
     """
 
     points: tuple[ResolutionPoint, ...]
     current_count: int
     required_noise_free_bits: float | None
-    skipped: tuple[tuple[int, str], ...] = ()
+    skipped: tuple[tuple[float, str], ...] = ()
+    swept: str = SWEEP_AVERAGING
+    current_rate_hz: float = math.nan
+    coverage: float = math.nan
+    k_pp: float = math.nan
+    band_top_hz: float | None = None
+    noise_carry: str = ""
+    decimation_order: int | None = None
+    sample_rate_hz: float = math.nan
+    note: str = ""
+    post_stage_count: int = 0
 
     @property
     def averaging_counts(self) -> np.ndarray:
         return np.array([p.averaging_count for p in self.points], dtype=int)
+
+    @property
+    def data_rates_hz(self) -> np.ndarray:
+        return np.array([p.data_rate_hz for p in self.points])
 
     @property
     def output_rates_hz(self) -> np.ndarray:
@@ -246,6 +321,20 @@ class ResolutionSweep:
     @property
     def effective_bits(self) -> np.ndarray:
         return np.array([p.effective_bits for p in self.points])
+
+    @property
+    def passes_band(self) -> np.ndarray:
+        return np.array([p.passes_band for p in self.points], dtype=bool)
+
+    @property
+    def current(self) -> ResolutionPoint | None:
+        """The design's own point (its budget is the design's budget)."""
+        for p in self.points:
+            if p.averaging_count == self.current_count and _same_rate(
+                p.data_rate_hz, self.current_rate_hz
+            ):
+                return p
+        return None
 
 
 def _plot_top(chain: Chain) -> float:
@@ -482,24 +571,155 @@ def _with_averaging(chain: Chain, slot: _AveragingSlot, count: int) -> Chain:
     return replace(chain, digital=DigitalPath(tuple(stages)))
 
 
+def _same_rate(a: float, b: float) -> bool:
+    return math.isclose(a, b, rel_tol=1e-9)
+
+
+def rate_carry(chain: Chain) -> str:
+    """How a chain's converter noise can be taken at other data rates, or "" if it cannot.
+
+    Only a delta-sigma converter offers other data rates (a SAR's output rate is
+    its conversion rate; averaging lowers it). Its noise can be carried to them
+    when it is a table against data rate ("table"), a figure the design allows to
+    scale as white noise ("white"), or an input density, which the budget
+    integrates over whatever filter follows ("density"). A single figure at one
+    rate, an SNR at its stated rate or transition noise cannot.
+    """
+    if chain.adc.architecture != "delta-sigma" or chain.digital is None:
+        return ""
+    noise = chain.adc.noise
+    if isinstance(noise, NoiseTable):
+        return "table"
+    if isinstance(noise, NoiseAtRate) and noise.scale_with_rate:
+        return "white"
+    if isinstance(noise, InputNoiseDensity):
+        return "density"
+    return ""
+
+
+def _candidate_rates(
+    chain: Chain, band: Band, carry: str, rates: tuple[float, ...] | None
+) -> list[float]:
+    """Converter data rates to try, in increasing order, the design's own among them."""
+    own = chain.adc.output_rate_hz
+    if rates is not None:
+        for r in rates:
+            if (
+                isinstance(r, bool)
+                or not isinstance(r, int | float)
+                or not (math.isfinite(r) and r > 0)
+            ):
+                raise DesignError("rates", r, "data rates > 0 Hz")
+        wanted = [float(r) for r in rates]
+    elif carry == "table":
+        wanted = [rate for rate, _ in chain.adc.noise.rows]
+    else:
+        low = _MIN_RATE_OVER_F_LOW * band.f_low_hz
+        high = chain.adc.sample_rate_hz * _MAX_RATE_OVER_SAMPLE_RATE
+        first = math.ceil(math.log2(low / own) - 1e-9)
+        last = math.floor(math.log2(high / own) + 1e-9)
+        wanted = [own * 2.0**k for k in range(first, last + 1)]
+    out: list[float] = []
+    for r in sorted([*wanted, own]):
+        if not out or not _same_rate(out[-1], r):
+            out.append(r)
+    return [own if _same_rate(r, own) else r for r in out]
+
+
+def _at_data_rate(chain: Chain, rate_hz: float) -> tuple[Chain | None, str]:
+    """The chain with its converter at another data rate, or None and why not.
+
+    The decimator keeps its order with the ratio fs/ODR; later stages run at the
+    new rate (an average keeps its length; a band limit keeps its cut-off, which
+    must stay under half the rate it runs at).
+    """
+    adc = chain.adc
+    fs = adc.sample_rate_hz
+    ratio = fs / rate_hz
+    length = round(ratio)
+    if length < 1 or not math.isclose(ratio, length, rel_tol=1e-9):
+        return None, f"decimation ratio {fs:g} Hz / ODR not a whole number"
+    stages = list(chain.digital.stages)
+    stages[0] = replace(stages[0], length=length)
+    for i in range(1, len(stages)):
+        rate_in = stages[i - 1].output_rate_hz
+        stage = stages[i]
+        if isinstance(stage, IdealLowpass) and stage.cutoff_hz > rate_in / 2:
+            return None, (
+                f"band limit at {stage.cutoff_hz:g} Hz above half the rate it would run at"
+            )
+        stages[i] = replace(stage, input_rate_hz=rate_in)
+    try:
+        variant = replace(
+            chain, adc=replace(adc, data_rate_hz=rate_hz), digital=DigitalPath(tuple(stages))
+        )
+    except DesignError as err:
+        return None, str(err)
+    return variant, ""
+
+
+def _point(
+    variant: Chain,
+    band: Band,
+    coverage: float,
+    requirement: Requirement | None,
+    grid_points: int,
+    count: int,
+) -> ResolutionPoint:
+    b = forward_budget(
+        variant, band, coverage=coverage, requirement=requirement, grid_points=grid_points
+    )
+    top = band.f_high_hz
+    passes = top is None or b.output_rate_hz >= 2 * top * (1 - 1e-9)
+    return ResolutionPoint(
+        count,
+        variant.adc.output_rate_hz,
+        b.output_rate_hz,
+        b.total_rms_v,
+        b.noise_free_bits,
+        b.effective_bits,
+        b.meets_requirement,
+        passes,
+        b,
+    )
+
+
 def resolution_sweep(
     chain: Chain,
     band: Band | None = None,
     requirement: Requirement | None = None,
     *,
     counts: tuple[int, ...] | None = None,
+    rates: tuple[float, ...] | None = None,
     coverage: float | None = None,
     grid_points: int = 2000,
 ) -> ResolutionSweep:
-    """Noise-free bits against post-averaging count and output data rate.
+    """Noise-free bits against output data rate, each point a full forward budget.
 
-    For a figure; the design's own resolution is the budget's. Each point is a
-    full :func:`~resplan.budget.forward_budget` of the chain with its
-    post-averaging stage (the first first-order sinc after the ADC's own output)
-    set to another count by ``dataclasses.replace``, or one appended to the
-    digital path when the chain has none; later stages move to the new rate.
-    White noise falls as 1/√N; 1/f noise and noise the ADC's own filter already
-    removed do not, which is why the curve flattens.
+    For a figure; the design's own resolution is the budget's, and the design's
+    own point is its budget exactly (the chain itself, not a rebuilt copy). Every
+    other point is a full :func:`~resplan.budget.forward_budget` of a chain
+    variant made with ``dataclasses.replace``, never a scaled estimate.
+
+    - **Data-rate sweep** (a delta-sigma converter whose noise is known at other
+      data rates, see :func:`rate_carry`): the converter's ``data_rate_hz`` is
+      set to each rate the converter offers — each row of a noise table, or the
+      design's rate times powers of two within [20·f_L, f_s/16] — and its
+      sinc^k decimator to the ratio f_s/ODR (rates whose ratio is not a whole
+      number are left out). Later digital stages run at the new rate: an average
+      keeps its length; a band limit keeps its cut-off, and a rate under twice it
+      is left out.
+    - **Averaging sweep** (any other chain): the post-averaging stage (the first
+      first-order sinc after the converter's own output) is set to another count,
+      or one is appended to the digital path; later stages move to the new rate.
+      White noise falls as 1/√N; 1/f noise and noise the converter's own filter
+      already removed do not, which is why the curve flattens.
+
+    Variants whose output rate falls below twice the top of the signal band are
+    kept, with ``passes_band`` False: they no longer pass the band (the sampling
+    theorem). Variants whose output rate falls below 20 × f_L (common practice,
+    no source: the noise band would fall under f_L) are left out, as are those
+    that cannot be built or computed; ``skipped`` says which and why.
 
     Parameters
     ----------
@@ -508,9 +728,11 @@ def resolution_sweep(
     requirement : Requirement, optional
         Gives the line the figure draws and each point's verdict.
     counts : tuple of int, optional
-        Averaging counts to try; powers of two to 256 and the design's own by default.
-        Counts whose output rate falls below 20 × f_L (common practice, no source)
-        or below twice the top of the signal band (the sampling theorem) are left out.
+        Averaging counts to try in an averaging sweep; powers of two to 256 and the
+        design's own by default. Not used in a data-rate sweep.
+    rates : tuple of float, optional
+        Converter data rates to try in a data-rate sweep, Hz (the design's own is
+        always added). Refused for a chain whose converter rate cannot be swept.
     coverage : float, optional
         Coverage for the noise-free figures (the requirement's, else 99.9 %).
     grid_points : int
@@ -521,40 +743,96 @@ def resolution_sweep(
     ResolutionSweep
     """
     band = band or Band()
-    slot = _averaging_slot(chain)
-    current, rate = slot.count, slot.rate_hz
-    wanted = sorted(set(counts if counts is not None else DEFAULT_AVERAGING_COUNTS) | {current})
-    points: list[ResolutionPoint] = []
-    skipped: list[tuple[int, str]] = []
-    for n in wanted:
-        if isinstance(n, bool) or not isinstance(n, int) or n < 1:
-            raise DesignError("counts", n, "whole averaging counts ≥ 1")
-        if n != current and rate / n < _MIN_RATE_OVER_F_LOW * band.f_low_hz:
-            skipped.append((n, f"output rate below {_MIN_RATE_OVER_F_LOW:g} × f_L"))
-            continue
-        if n != current and band.f_high_hz is not None and rate / n < 2 * band.f_high_hz:
-            skipped.append((n, "output rate below twice the top of the signal band"))
-            continue
-        try:
-            variant = chain if n == current else _with_averaging(chain, slot, n)
-            b = forward_budget(
-                variant, band, coverage=coverage, requirement=requirement, grid_points=grid_points
-            )
-        except (DesignError, ChainError) as err:
-            skipped.append((n, str(err)))
-            continue
-        points.append(
-            ResolutionPoint(
-                n,
-                b.output_rate_hz,
-                b.total_rms_v,
-                b.noise_free_bits,
-                b.effective_bits,
-                b.meets_requirement,
-            )
+    if coverage is None:
+        coverage = requirement.coverage if requirement is not None else DEFAULT_COVERAGE
+    k_pp = peak_to_peak_factor(coverage)
+    carry = rate_carry(chain)
+    if rates is not None and not carry:
+        raise DesignError(
+            "rates",
+            rates,
+            "a delta-sigma converter whose noise is known at other data rates (a noise "
+            "table, scale_with_rate, or an input density)",
         )
+    slot = _averaging_slot(chain)
+    floor = _MIN_RATE_OVER_F_LOW * band.f_low_hz
+    points: list[ResolutionPoint] = []
+    skipped: list[tuple[float, str]] = []
+
+    def add(variant: Chain, count: int, key: float) -> None:
+        try:
+            points.append(_point(variant, band, coverage, requirement, grid_points, count))
+        except DesignError as err:  # ChainError included
+            skipped.append((key, str(err)))
+
+    if carry:
+        own = chain.adc.output_rate_hz
+        for rate in _candidate_rates(chain, band, carry, rates):
+            if rate == own:
+                add(chain, slot.count, rate)
+                continue
+            variant, why = _at_data_rate(chain, rate)
+            if variant is None:
+                skipped.append((rate, why))
+            elif variant.output_rate_hz < floor:
+                skipped.append((rate, f"output rate below {_MIN_RATE_OVER_F_LOW:g} × f_L"))
+            else:
+                add(variant, slot.count, rate)
+        points.sort(key=lambda p: p.output_rate_hz)
+        swept = SWEEP_DATA_RATE
+        order = chain.digital.stages[0].order
+        note = ""
+    else:
+        current, rate = slot.count, slot.rate_hz
+        wanted = sorted(set(counts if counts is not None else DEFAULT_AVERAGING_COUNTS) | {current})
+        for n in wanted:
+            if isinstance(n, bool) or not isinstance(n, int) or n < 1:
+                raise DesignError("counts", n, "whole averaging counts ≥ 1")
+            if n == current:
+                add(chain, n, n)
+                continue
+            if rate / n < floor:
+                skipped.append((n, f"output rate below {_MIN_RATE_OVER_F_LOW:g} × f_L"))
+                continue
+            try:
+                variant = _with_averaging(chain, slot, n)
+            except DesignError as err:
+                skipped.append((n, str(err)))
+                continue
+            add(variant, n, n)
+        swept = SWEEP_AVERAGING
+        order = None
+        note = _why_averaging(chain)
     required = None
     if requirement is not None and requirement.allowed_noise_rms_v > 0:
-        k_pp = peak_to_peak_factor(requirement.coverage if coverage is None else coverage)
         required = math.log2(requirement.span_v / (k_pp * requirement.allowed_noise_rms_v))
-    return ResolutionSweep(tuple(points), current, required, tuple(skipped))
+    return ResolutionSweep(
+        points=tuple(points),
+        current_count=slot.count,
+        required_noise_free_bits=required,
+        skipped=tuple(skipped),
+        swept=swept,
+        current_rate_hz=chain.adc.output_rate_hz,
+        coverage=coverage,
+        k_pp=k_pp,
+        band_top_hz=band.f_high_hz,
+        noise_carry=carry,
+        decimation_order=order,
+        sample_rate_hz=chain.adc.sample_rate_hz,
+        note=note,
+        post_stage_count=len(chain.post_stages),
+    )
+
+
+def _why_averaging(chain: Chain) -> str:
+    """Why the converter's data rate is not swept, for a caption."""
+    if chain.adc.architecture != "delta-sigma":
+        return "a SAR's output rate is its conversion rate, so the post-average is varied"
+    noise = chain.adc.noise
+    if isinstance(noise, NoiseAtRate):
+        what = "a single figure at its own data rate, not allowed to scale as white noise"
+    elif isinstance(noise, SnrNoise):
+        what = "an SNR at its stated rate"
+    else:
+        what = "known at its own data rate only"
+    return f"the converter's noise is {what}, so the post-average is varied, not the data rate"

@@ -225,11 +225,14 @@ def test_sweep_replaces_an_existing_average_and_moves_later_stages():
     assert sweep.points[1].total_rms_v == own.total_rms_v
 
 
-def test_sweep_leaves_out_rates_below_the_signal_band():
+def test_sweep_keeps_rates_below_the_signal_band_and_marks_them():
+    # 100 Hz / 4 = 25 Hz is under twice the 20 Hz band top (the sampling theorem):
+    # kept, marked as no longer passing the band.
     chain = invented_delta_sigma_chain()
     sweep = resolution_sweep(chain, Band(0.01, 20.0), counts=(1, 2, 4))
-    assert [p.averaging_count for p in sweep.points] == [1, 2]
-    assert sweep.skipped == ((4, "output rate below twice the top of the signal band"),)
+    assert [p.averaging_count for p in sweep.points] == [1, 2, 4]
+    assert [p.passes_band for p in sweep.points] == [True, True, False]
+    assert sweep.skipped == ()
 
 
 def test_sweep_required_line_is_where_the_verdict_changes():
