@@ -163,6 +163,8 @@ def test_check_open_design_names_every_open_part(runner, tmp_path):
 
 
 HIVE = example_text("hive-scale")
+#: The example's ADC noise table (invented rows), replaced whole by the cases below.
+HIVE_TABLE = HIVE[HIVE.index("noise_table = [") : HIVE.index("\n]\n") + 2]
 BAD_INPUT = [
     # (description, old, new, number of problem lines, fragment)
     ("wrong unit", 'resistance = "2 kohm"', 'resistance = "2 kV"', 1, "kV is a voltage"),
@@ -170,12 +172,18 @@ BAD_INPUT = [
     ("unknown key", "bits = 24", "bitss = 24", 2, 'did you mean "bits"'),
     ("negative value", '"350 ohm"', '"-350 ohm"', 1, "> 0"),
     ("bad TOML", "bits = 24", "bits = = 24", 1, "bad TOML syntax"),
-    ("p-p noise without factor", 'noise = "45 nV"', 'noise_pp = "300 nV"', 1, "pp_factor"),
+    (
+        "p-p noise without factor",
+        HIVE_TABLE,
+        'noise_pp = "300 nV"\nnoise_data_rate = "10 Hz"',
+        1,
+        "pp_factor",
+    ),
     ("ratio not integer", '"64 kHz"', '"64.001 kHz"', 1, "whole decimation ratio"),
     (
         "noise at another data rate",
-        'noise_data_rate = "10 Hz"',
-        'noise_data_rate = "5 Hz"',
+        HIVE_TABLE,
+        'noise = "45 nV"\nnoise_data_rate = "5 Hz"',
         1,
         "scale_with_rate",
     ),

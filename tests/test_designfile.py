@@ -139,13 +139,19 @@ def test_explicit_full_scale_is_divided_by_gain():
     assert any("full_scale_range / gain" in n for n in d.notes)
 
 
-ADC_NOISE = 'noise = "45 nV"\nnoise_data_rate = "10 Hz"\nnoise_gain = 128'
+#: The example's ADC noise (a table of invented rows), and one figure at its data rate.
+ADC_NOISE = (
+    'noise_table = [\n  ["2.5 Hz", "28 nV"],\n  ["5 Hz", "35 nV"],\n  ["10 Hz", "45 nV"],\n'
+    '  ["20 Hz", "60 nV"],\n  ["40 Hz", "83 nV"],\n  ["80 Hz", "115 nV"],\n'
+    '  ["160 Hz", "160 nV"],\n  ["320 Hz", "230 nV"],\n]\nnoise_gain = 128'
+)
+ONE_FIGURE = 'noise = "45 nV"\nnoise_data_rate = "10 Hz"\nnoise_gain = 128'
 
 
 @pytest.mark.parametrize(
     ("lines", "kind", "check"),
     [
-        (ADC_NOISE, NoiseAtRate, lambda n: n.rms_v == pytest.approx(45e-9)),
+        (ONE_FIGURE, NoiseAtRate, lambda n: n.rms_v == pytest.approx(45e-9)),
         # a p-p figure divided by the stated factor: 297 nV / 6.6 = 45 nV
         (
             'noise_pp = "297 nV"\npp_factor = 6.6\nnoise_data_rate = "10 Hz"\nnoise_gain = 128',
@@ -179,7 +185,9 @@ def test_adc_noise_forms(lines, kind, check):
 
 def test_scale_with_rate_carries_the_figure():
     text = edit(
-        HIVE, 'noise_data_rate = "10 Hz"', 'noise_data_rate = "40 Hz"\nscale_with_rate = true'
+        HIVE,
+        ADC_NOISE,
+        ONE_FIGURE.replace('"10 Hz"', '"40 Hz"') + "\nscale_with_rate = true",
     )
     d = loads_design(text, "d.toml")
     budget = check_design(d)
@@ -333,19 +341,21 @@ INVALID = [
     ("bits not whole", HIVE, "bits = 24", "bits = 24.5", "adc.bits", "whole number"),
     ("bits out of range", HIVE, "bits = 24", "bits = 40", "adc.bits", "1 to 32"),
     ("architecture", HIVE, '"delta-sigma"', '"delta sigma"', "adc.architecture", "did you mean"),
-    ("p-p without factor", HIVE, 'noise = "45 nV"', 'noise_pp = "297 nV"',
+    ("p-p without factor", HIVE, ADC_NOISE,
+     ONE_FIGURE.replace('noise = "45 nV"', 'noise_pp = "297 nV"'),
      "adc.pp_factor", "refused without it"),
-    ("p-p in an rms field", HIVE, 'noise = "45 nV"', 'noise = "297 nVpp"', "adc.noise", "297 nVpp"),
+    ("p-p in an rms field", HIVE, ADC_NOISE, ONE_FIGURE.replace('"45 nV"', '"297 nVpp"'),
+     "adc.noise", "297 nVpp"),
     ("ratio not integer", HIVE, '"64 kHz"', '"64.0005 kHz"',
      "digital.decimation", "whole decimation ratio"),
-    ("noise at another data rate", HIVE, 'noise_data_rate = "10 Hz"', 'noise_data_rate = "20 Hz"',
+    ("noise at another data rate", HIVE, ADC_NOISE, ONE_FIGURE.replace('"10 Hz"', '"20 Hz"'),
      "adc.noise_data_rate", "scale_with_rate"),
     ("noise at another gain", HIVE, "noise_gain = 128", "noise_gain = 64", "adc.noise_gain", "128"),
     ("noise gain not stated", HIVE, "noise_gain = 128", "", "adc.noise_gain", "quoted at"),
-    ("two noise forms", HIVE, 'noise = "45 nV"', 'noise = "45 nV"\nsnr = "100 dB"',
+    ("two noise forms", HIVE, ADC_NOISE, ADC_NOISE + '\nsnr = "100 dB"',
      "adc.snr", "exactly one"),
-    ("no noise form", HIVE, 'noise = "45 nV"', "", "adc.noise", "exactly one noise figure"),
-    ("table row missing", HIVE, 'noise = "45 nV"\nnoise_data_rate = "10 Hz"',
+    ("no noise form", HIVE, ADC_NOISE, "noise_gain = 128", "adc.noise", "exactly one noise figure"),
+    ("table row missing", HIVE, ADC_NOISE.split("\nnoise_gain")[0],
      'noise_table = [["20 Hz", "60 nV"]]', "adc.noise_table", "listed in the table"),
     ("snr at another rate", VIBRATION, 'snr_sample_rate = "200 kHz"', 'snr_sample_rate = "1 MHz"',
      "adc.snr_sample_rate", "200000"),
