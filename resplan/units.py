@@ -8,9 +8,12 @@ Parsing goes in two steps. A small tokenizer of our own reads the number and
 checks the unit expression, accepting the spellings engineers type (``rtHz``,
 ``√Hz``, ``sqrt(Hz)``, ``Hz^0.5``, ``°C``, ``Ω``/``ohm``, ``µ``/``u``, ``%``,
 ``kS/s``, a trailing ``rms``) and refusing what would be misread (``p-p``,
-``peak``, a decimal comma). pint then resolves the unit names and the
-dimension. pint is imported only when the first quantity is parsed, and it
-uses a small registry (``resplan/units.txt``) that builds in milliseconds.
+``peak``, a decimal comma). The common units (SI prefixes on V, A, Ω, F, Hz,
+s ..., densities per √Hz, mV/V, %, ppm, degC ...) are then resolved by exact
+table look-up in :mod:`resplan.unittables`, without pint; any other unit
+expression goes to pint, imported only when first needed, with a small
+registry (``resplan/units.txt``) that builds in milliseconds. Both give the
+same results (``tests/test_units_fastpath.py``).
 
 Every failure, whatever its cause, is a :class:`resplan.errors.DesignError`
 naming the field, the text given and what was expected.
@@ -34,10 +37,10 @@ import math
 import numbers
 import re
 from collections.abc import Iterable
-from decimal import Decimal
 from fractions import Fraction
 from typing import TYPE_CHECKING, Any, NamedTuple
 
+from resplan import unittables
 from resplan.errors import DesignError
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -61,7 +64,8 @@ class Dimension(NamedTuple):
     ----------
     dimensionality : str
         pint dimensionality, such as ``"[voltage] / [frequency] ** 0.5"``;
-        ``""`` for plain numbers.
+        ``""`` for plain numbers. It is the dimension of ``si_unit`` (the
+        tests check so), which is what the pint-free path compares against.
     description : str
         What the user is asked for, such as ``"a voltage noise density"``.
     si_unit : str
@@ -129,11 +133,8 @@ _MAX_LENGTH = 100
 _MAX_EXPONENT = 12
 _MAX_DEPTH = 4
 # Arithmetic is exact (fractions) and rounded once, at the end; conversion
-# factors are first cleaned of pint's float round-off (see _exact), so "4.5 nV"
-# gives the same float as 4.5e-9, "99.9 %" gives 0.999 and "32 degF" 273.15.
-_FACTOR_DIGITS = 15
-_SHORT_DIGITS = 12
-_MAX_DENOMINATOR = 1000
+# factors are first cleaned of pint's float round-off (unittables.exact), so
+# "4.5 nV" gives the same float as 4.5e-9, "99.9 %" 0.999 and "32 degF" 273.15.
 # Largest decimal exponent accepted in a number ("1e999"); 10**999 is cheap.
 _MAX_NUMBER_EXPONENT_DIGITS = 3
 
@@ -146,6 +147,11 @@ _BASE_SYMBOLS = {
     "mole": "mol",
     "candela": "cd",
 }
+
+
+# The pint-free path for common units (resplan.unittables); off only in tests,
+# through _set_fast_path, to compare it with pint.
+_fast_path = True
 
 
 class _Rejected(Exception):
@@ -306,6 +312,8 @@ def _exponent(value: float) -> str:
 
 def _check_name(name: str) -> None:
     """Raise unless pint knows exactly this unit name (with any prefix)."""
+    if _fast_path and unittables.known_name(name):
+        return  # every such name reads the same in pint (see the fast-path tests)
     ureg = _registry()
     try:
         known = bool(ureg.parse_unit_name(name))
@@ -431,7 +439,7 @@ def _translate(unit_text: str) -> str:
 
 
 class _UnitInfo(NamedTuple):
-    dimensionality: Any  # pint UnitsContainer of base dimensions
+    dimensionality: tuple[Fraction, ...]  # exponents of unittables.BASE_QUANTITIES
     factor: Fraction  # SI value of 1 unit, or of a 1-unit difference for offset units
     offset: Fraction  # SI value of 0 unit (non-zero only for degC, degF)
     base_unit: str  # the SI base unit string, such as "kg*m/s**2"
@@ -439,6 +447,14 @@ class _UnitInfo(NamedTuple):
 
 @functools.lru_cache(maxsize=512)
 def _unit_info(expression: str) -> _UnitInfo:
+    known = unittables.evaluate(expression) if _fast_path else None
+    if known is not None:
+        base = _base_unit_string(known.root_units())
+        return _UnitInfo(known.dimensions, known.factor, known.offset, base)
+    return _pint_unit_info(expression)
+
+
+def _pint_unit_info(expression: str) -> _UnitInfo:
     ureg = _registry()
     try:
         units = ureg.parse_units(expression) if expression else ureg.dimensionless
@@ -451,7 +467,7 @@ def _unit_info(expression: str) -> _UnitInfo:
         else:  # offset unit: the factor is that of a difference
             root = (one - zero).to_root_units()
         factor = float(root.magnitude)
-        dimensionality = units.dimensionality
+        dimensionality = unittables.dimension_vector(dict(units.dimensionality))
         base = _base_unit_string(root.unit_items())
     except _Rejected:
         raise
@@ -459,26 +475,7 @@ def _unit_info(expression: str) -> _UnitInfo:
         raise _Rejected("not a unit expression") from None
     if not (math.isfinite(factor) and math.isfinite(offset)) or factor == 0.0:
         raise _Rejected("unit scale out of range")
-    return _UnitInfo(dimensionality, _exact(factor), _exact(offset), base)
-
-
-def _exact(value: float) -> Fraction:
-    """The exact number a conversion factor stands for, as a fraction.
-
-    pint builds factors such as 1e-9 from products of prefixes and 5/9 from a
-    float division, leaving round-off in the last bit. A factor that is a short
-    decimal at 15 significant digits (1e-09, 0.45359237, 273.15) or, within
-    1e-15, a fraction with a small denominator (5/9) is taken as that number;
-    any other is kept exactly as the float it is.
-    """
-    rounded = Decimal(f"{value:.{_FACTOR_DIGITS}g}")
-    if len(rounded.normalize().as_tuple().digits) <= _SHORT_DIGITS:
-        return Fraction(rounded)
-    exact = Fraction(value)
-    simple = exact.limit_denominator(_MAX_DENOMINATOR)
-    if abs(simple - exact) <= abs(exact) * Fraction(1, 10**15):
-        return simple
-    return exact
+    return _UnitInfo(dimensionality, unittables.exact(factor), unittables.exact(offset), base)
 
 
 def _base_unit_string(units: Iterable[tuple[str, float]]) -> str:
@@ -502,15 +499,27 @@ def _base_unit_string(units: Iterable[tuple[str, float]]) -> str:
 
 
 @functools.cache
-def _target(dimension: str) -> Any:
+def _target(dimension: str) -> tuple[Fraction, ...]:
     spec = DIMENSIONS[dimension]
+    if _fast_path:  # the dimension of the SI unit, read like any unit
+        return _unit_info(_translate(spec.si_unit)).dimensionality
     ureg = _registry()
     if not spec.dimensionality:
-        return ureg.dimensionless.dimensionality
-    return ureg.get_dimensionality(spec.dimensionality)
+        return unittables.DIMENSIONLESS
+    return unittables.dimension_vector(dict(ureg.get_dimensionality(spec.dimensionality)))
 
 
-def _described(dimensionality: Any) -> str | None:
+def _set_fast_path(enabled: bool) -> bool:
+    """Turn the pint-free path on or off (for tests); return the previous setting."""
+    global _fast_path
+    previous, _fast_path = _fast_path, bool(enabled)
+    _translate.cache_clear()
+    _unit_info.cache_clear()
+    _target.cache_clear()
+    return previous
+
+
+def _described(dimensionality: tuple[Fraction, ...]) -> str | None:
     """Name a dimensionality in words, if it is one of DIMENSIONS."""
     for name, spec in DIMENSIONS.items():
         if name in ("temperature_difference", "ratio_per_volt"):
