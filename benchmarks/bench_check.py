@@ -4,6 +4,9 @@ Runs ``python -m resplan check FILE`` in a fresh interpreter N times and prints
 the best wall time against the target (0.6 s on a 2-core machine). Also runs
 ``-X importtime`` once and lists the slowest imports, and says whether any
 module that must stay off this path (matplotlib, reportlab, scipy) was loaded.
+It also checks every complete embedded example for modules its units do not
+need: pint reads only units outside resplan.unittables, so a design with
+exotic units may load it, but the examples must not.
 
 This is a measurement, not a test: machines differ and a loaded machine is
 slower. Usage::
@@ -24,6 +27,8 @@ from pathlib import Path
 TARGET_S = 0.6
 #: Modules that must never load on the check path.
 FORBIDDEN = ("matplotlib", "reportlab", "scipy")
+#: Modules the common units do not need (a design with exotic units may load them).
+NOT_NEEDED = ("pint",)
 
 
 def _write_example(name: str, folder: Path) -> Path:
@@ -32,6 +37,12 @@ def _write_example(name: str, folder: Path) -> Path:
     path = folder / f"{name}.toml"
     path.write_text(example_text(name), encoding="utf-8")
     return path
+
+
+def _complete_examples() -> list[str]:
+    from resplan.examples import EXAMPLE_NAMES, load_example
+
+    return [name for name in EXAMPLE_NAMES if load_example(name).is_complete]
 
 
 def _run(cmd: list[str]) -> float:
@@ -106,6 +117,10 @@ def main(argv: list[str] | None = None) -> int:
         bare = min(_run([sys.executable, "-c", "pass"]) for _ in range(5))
         rows = _imports(cmd)
         loaded = _loaded(path)
+        needless = {}
+        for name in dict.fromkeys([args.example, *_complete_examples()]):
+            found = _loaded(_write_example(name, Path(tmp)))
+            needless[name] = [m for m in NOT_NEEDED if m in found]
 
     best = times[0]
     print(
@@ -118,6 +133,9 @@ def main(argv: list[str] | None = None) -> int:
         print(f"  {cumulative / 1000:7.1f} ms  {name}")
     bad = [m for m in FORBIDDEN if m in loaded]
     print("forbidden modules loaded: " + (", ".join(bad) if bad else "none"))
+    for name, modules in needless.items():
+        shown = ", ".join(modules) if modules else "none"
+        print(f"not needed ({', '.join(NOT_NEEDED)}), loaded by check {name}: {shown}")
     print("result: " + ("within target" if best < TARGET_S else "ABOVE target"))
     return 0
 
