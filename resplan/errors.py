@@ -19,8 +19,12 @@ __all__ = [
 ]
 
 
-#: Control characters written as escapes, so that a message stays on one line.
-_CONTROL = {c: repr(chr(c))[1:-1] for c in (*range(32), 127)}
+#: Control characters and line separators written as escapes, so that a message stays on
+#: one line for every splitter (str.splitlines breaks at U+0085, U+2028 and U+2029 too).
+_CONTROL = {
+    c: chr(c).encode("unicode_escape").decode("ascii")
+    for c in (*range(32), *range(127, 160), 0x2028, 0x2029)
+}
 
 
 def describe_value(value: Any) -> str:
@@ -32,6 +36,8 @@ def describe_value(value: Any) -> str:
     '"4.5 nV"'
     >>> describe_value("a\nb")
     '"a\\nb"'
+    >>> len(describe_value("0\x855 V\u2028").splitlines())
+    1
     """
     text = repr(value) if not isinstance(value, str) else f'"{value.translate(_CONTROL)}"'
     return text if len(text) <= 60 else text[:57] + "..."
