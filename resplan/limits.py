@@ -110,8 +110,8 @@ def _amplifier_rows(slot: Slot, var: float, chain: Chain, design: Design, band, 
                 en_max / math.sqrt(2),
                 "V/√Hz",
                 "max",
-                f"with i_n ≤ {in_max / math.sqrt(2):.3g} A/√Hz; optimum source resistance "
-                f"e_n/i_n = {_ohm(r_seen)}",
+                f"with i_n ≤ {format_si(in_max / math.sqrt(2), 'A/√Hz')}; "
+                f"optimum source resistance e_n/i_n = {_ohm(r_seen)}",
                 "each term σ²/2",
             ),
         ]
