@@ -9,8 +9,9 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+from .alias import allowed_residue, path_attenuation_db
 from .bandwidth import noise_bandwidth
-from .budget import DOMINANCE_RATIO, Budget
+from .budget import Budget
 from .chain import Chain
 from .converter import NoiseAtRate, SnrNoise, TransitionNoise
 from .design import Design, OpenPart
@@ -178,21 +179,9 @@ def _alias_rows(part: OpenPart, stage: ActiveFilter, chain: Chain, design: Desig
             f"a full-scale sine at the first alias band, f_s − f_B = {f_i:g} Hz "
             "(no interferer stated)"
         )
-    if req.interference_rms_v > 0:
-        residue = req.interference_rms_v
-        residue_text = "the interference allowance"
-    else:
-        residue = DOMINANCE_RATIO * req.allowed_total_rms_v
-        residue_text = "1/5 of the allowed noise (common practice, no source)"
+    residue, residue_text = allowed_residue(req)
     needed_db = 20 * math.log10(amplitude / residue) if amplitude > residue else 0.0
-    helped_db = 0.0
-    if chain.digital is not None:
-        helped_db += float(-10 * math.log10(max(chain.digital.power_gain(f_i), 1e-300)))
-    for other in chain.stages:
-        if other is stage:
-            continue
-        for r in other.responses:
-            helped_db += float(r.attenuation_db(f_i))
+    helped_db = sum(path_attenuation_db(chain, f_i, skip=stage))
     filter_db = max(0.0, needed_db - helped_db)
     rows = [
         PartRequirement(

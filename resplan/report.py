@@ -50,6 +50,7 @@ from .formatting import (
     format_si,
     format_temperature,
 )
+from .textreport import interferer_check
 
 __all__ = ["write_report", "PAPER_SIZES", "SECTION_TITLES"]
 
@@ -1058,6 +1059,21 @@ def _budget_section(w: _Writer, design: Design, budget: Budget | None) -> list:
             w.small,
         )
     )
+    alias = interferer_check(budget, design)
+    if alias is not None:
+        verdict_text = "within it" if alias.within_allowance else "it EXCEEDS the allowance"
+        out.append(
+            w.p(
+                f"Stated interferer (interference, not noise): {format_si(alias.amplitude_v, 'V')} "
+                f"rms at {format_si(alias.frequency_hz, 'Hz')} at the sensor lands at "
+                f"{format_si(alias.alias_hz, 'Hz')} after sampling; the analog path attenuates "
+                f"it by {format_db(alias.analog_db)} and the digital filter by "
+                f"{format_db(alias.digital_db)}, leaving {format_si(alias.residue_v, 'V')} rms "
+                f"against {format_si(alias.allowed_v, 'V')} rms allowed ({alias.allowed_reason}): "
+                f"{verdict_text}.",
+                w.small,
+            )
+        )
     return out
 
 

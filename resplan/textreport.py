@@ -263,6 +263,31 @@ def format_budget(budget: Budget, design: Design | None = None, *, ascii_only: b
         lines += _table(allowed, set())
         lines.append("")
 
+    alias = interferer_check(budget, design)
+    if alias is not None:
+        lines.append("Stated interferer (interference, not noise)")
+        lines += _table(
+            [
+                [
+                    "tone",
+                    f"{_v(alias.amplitude_v)} rms at {_hz(alias.frequency_hz)} (at the sensor), "
+                    f"lands at {_hz(alias.alias_hz)} after sampling",
+                ],
+                [
+                    "attenuation",
+                    f"{format_db(alias.analog_db)} analog + {format_db(alias.digital_db)} digital",
+                ],
+                [
+                    "residue",
+                    f"{_v(alias.residue_v)} rms at the sensor; allowed {_v(alias.allowed_v)} rms "
+                    f"({alias.allowed_reason}): "
+                    + ("within it" if alias.within_allowance else "EXCEEDS it"),
+                ],
+            ],
+            set(),
+        )
+        lines.append("")
+
     dominant = ", ".join(f"{c.name} ({c.stage})" for c in budget.dominant)
     if dominant:
         lines.append(f"Dominant: {dominant}")
@@ -299,16 +324,29 @@ def json_safe(value: Any) -> Any:
     return value
 
 
+def interferer_check(budget: Budget, design: Design | None):
+    """The design's stated interferer through its chain, or None when none is stated."""
+    if design is None or design.alias_interferer is None or budget.requirement is None:
+        return None
+    from .alias import check_interferer
+
+    frequency, amplitude = design.alias_interferer
+    return check_interferer(design.chain(), frequency, amplitude, budget.requirement)
+
+
 def check_data(budget: Budget, design: Design | None = None) -> dict[str, Any]:
     """What ``resplan check --json`` prints: the budget's data plus the design's identity.
 
     Keys are those of :meth:`resplan.budget.Budget.to_dict` (SI values, the key
-    names the unit) plus ``verdict``, ``engineering`` (or None), and ``design``
+    names the unit) plus ``verdict``, ``engineering`` (or None), ``interferer``
+    (the stated interferer through the chain, or None), and ``design``
     (``source``, ``sha256``, ``meta``, ``notes``). Values are JSON-safe (see :func:`json_safe`).
     """
     data = budget.to_dict()
     data["verdict"] = verdict(budget)
     data["engineering"] = engineering_figures(budget)
+    alias = interferer_check(budget, design)
+    data["interferer"] = None if alias is None else alias.to_dict()
     if design is not None:
         m = design.meta
         data["design"] = {

@@ -532,3 +532,29 @@ def test_adc_polarity_that_contradicts_the_input_range_is_refused(runner, tmp_pa
     no_traceback(result)
     assert result.exit_code == 2
     assert "adc.polarity" in result.stderr and "unipolar" in result.stderr
+
+
+def test_stated_interferer_is_checked_through_the_chain(runner, tmp_path):
+    # pipeline-vibration states 20 mV at 190 kHz; sampled at 200 kHz it lands at 10 kHz
+    # (|f − f_s|, DOMAIN §4) and the anti-alias filter must bring it under the allowance.
+    text = example_text("pipeline-vibration")
+    path = write(tmp_path, "p.toml", text)
+    data = strict_json(runner.invoke(main, ["check", "--json", path]).stdout)
+    alias = data["interferer"]
+    assert alias["alias_hz"] == pytest.approx(10e3)
+    assert alias["residue_v"] == pytest.approx(
+        alias["amplitude_v"] * 10 ** (-(alias["analog_db"] + alias["digital_db"]) / 20)
+    )
+    assert alias["within_allowance"] is True
+    loud = text.replace('amplitude = "20 mV"', 'amplitude = "2 V"')
+    result = runner.invoke(main, ["check", write(tmp_path, "loud.toml", loud)])
+    assert "EXCEEDS" in result.stdout
+    assert (
+        strict_json(runner.invoke(main, ["check", "--json", str(tmp_path / "loud.toml")]).stdout)[
+            "interferer"
+        ]["within_allowance"]
+        is False
+    )
+    # Examples that state no interferer carry a null.
+    hive = write(tmp_path, "h.toml", example_text("hive-scale"))
+    assert strict_json(runner.invoke(main, ["check", "--json", hive]).stdout)["interferer"] is None
