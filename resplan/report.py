@@ -166,6 +166,11 @@ FORMULAS: tuple[tuple[str, str, str], ...] = (
         "digital response, Oppenheim and Schafer",
     ),
     (
+        "Where an interferer aliases, and what is left of it",
+        "f_alias = |f_i − m·f_s| in 0…f_s/2; residue = A_i·10^(−(A_analog + A_digital)/20)",
+        "sampling theorem (as above); attenuation from the responses' closed forms",
+    ),
+    (
         "Quantisation noise",
         "σ_q = q/√12, q = FSR/2^N",
         "W. R. Bennett, Bell Syst. Tech. J. 27, 446 (1948)",
