@@ -322,5 +322,21 @@ def check_design(design: Design, *, grid_points: int = 2000):
         return forward_budget(
             chain, design.band, requirement=design.requirement, grid_points=grid_points
         )
-    except DesignError as err:  # name the file, as every other problem does
+    except DesignError as err:  # name the file and the table, as every other problem does
+        err = _with_place(err, design)
         raise with_source(err, design.source) if design.source else err from None
+
+
+def _with_place(err: DesignError, design: Design) -> DesignError:
+    """``err`` with a part's name in its field replaced by the part's table path."""
+    places = {design.sensor.name: "sensor"}
+    places.update({stage.name: f"stages[{i}]" for i, stage in enumerate(design.stages)})
+    if design.reference is not None:
+        places[design.reference.name] = "reference"
+    places[design.adc.name] = "adc"
+    head, dot, rest = err.field.partition(".")
+    if head in places and head != places[head]:
+        return type(err)(places[head] + dot + rest, err.value, err.expected, err.source)
+    if err.field in places:
+        return type(err)(places[err.field], err.value, err.expected, err.source)
+    return err

@@ -558,3 +558,18 @@ def test_stated_interferer_is_checked_through_the_chain(runner, tmp_path):
     # Examples that state no interferer carry a null.
     hive = write(tmp_path, "h.toml", example_text("hive-scale"))
     assert strict_json(runner.invoke(main, ["check", "--json", hive]).stdout)["interferer"] is None
+
+
+def test_unbounded_noise_band_names_the_table(runner, tmp_path):
+    # Without gbw and without the RC, nothing bounds the noise of a raw SAR: white noise
+    # of unlimited bandwidth aliases without end, so this is bad input, not a number.
+    text = example_text("soil-temperature").replace('gbw = "1.5 MHz"\n', "")
+    start = text.index('[[stages]]\ntype = "rc_filter"')
+    text = text[:start] + text[text.index("\n[reference]\n", start) + 1 :]
+    result = runner.invoke(main, ["check", write(tmp_path, "u.toml", text)])
+    no_traceback(result)
+    assert result.exit_code == 2
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1
+    assert lines[0].startswith("error: ") and "u.toml: sensor: " in lines[0]
+    assert "analog bandwidth" in lines[0]
