@@ -425,6 +425,25 @@ def _cumulative_figure(budget: Budget, cumulative, spectra) -> Figure:
     return fig
 
 
+def _bar_axes(labels: Sequence[str], right_in: float):
+    """A figure for one horizontal bar per label, its left margin fitted to the labels.
+
+    Returns the figure, its axes and the bar positions, first label on top.
+    """
+    height = 1.0 + 0.22 * len(labels)
+    fig, ax = _new_axes(height, bottom=0.45)
+    left = _text_width_in(fig, labels, _STYLE["ytick.labelsize"]) + 0.15
+    ax.set_position(
+        (
+            left / _WIDTH_IN,
+            0.45 / height,
+            (_WIDTH_IN - left - right_in) / _WIDTH_IN,
+            (height - 0.92) / height,
+        )
+    )
+    return fig, ax, list(range(len(labels)))[::-1]
+
+
 def _contributions_figure(budget: Budget) -> Figure:
     items = [c for c in budget.contributions if c.rms_v > 0]
     shown = items[:_MAX_BARS]
@@ -439,18 +458,7 @@ def _contributions_figure(budget: Budget) -> Figure:
         shares.append(100 * share)
         colours.append(_LIGHT)
         texts.append(format_percent(share))
-    height = 1.0 + 0.22 * len(labels)
-    fig, ax = _new_axes(height, bottom=0.45)
-    left = _text_width_in(fig, labels, _STYLE["ytick.labelsize"]) + 0.15
-    ax.set_position(
-        (
-            left / _WIDTH_IN,
-            0.45 / height,
-            (_WIDTH_IN - left - 0.1) / _WIDTH_IN,
-            (height - 0.92) / height,
-        )
-    )
-    y = list(range(len(labels)))[::-1]
+    fig, ax, y = _bar_axes(labels, right_in=0.1)
     ax.barh(y, shares, color=colours, edgecolor=_GREY, linewidth=0.4, height=0.65)
     ax.set_yticks(y, labels)
     ax.set_xlim(0, 118)
@@ -678,19 +686,8 @@ def _allocation_figure(plan) -> Figure | None:
         return None
     rows = rows[: _MAX_BARS + 4]
     scale, prefix = _scale_for(max(r[1] for r in rows))
-    height = 1.0 + 0.22 * len(rows)
     labels = [r[0] for r in rows]
-    fig, ax = _new_axes(height, bottom=0.45)
-    left = _text_width_in(fig, labels, _STYLE["ytick.labelsize"]) + 0.15
-    ax.set_position(
-        (
-            left / _WIDTH_IN,
-            0.45 / height,
-            (_WIDTH_IN - left - 0.2) / _WIDTH_IN,
-            (height - 0.92) / height,
-        )
-    )
-    y = list(range(len(rows)))[::-1]
+    fig, ax, y = _bar_axes(labels, right_in=0.2)
     ax.barh(
         y, [r[1] / scale for r in rows], color=[r[2] for r in rows], height=0.65, edgecolor=_GREY
     )
