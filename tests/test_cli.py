@@ -249,16 +249,17 @@ def test_usage_errors_exit_2(runner):
 # init
 
 
-def test_init_writes_the_default_example(runner, tmp_path):
-    with runner.isolated_filesystem(temp_dir=tmp_path):
-        result = runner.invoke(main, ["init"])
-        assert result.exit_code == 0, result.output
-        written = Path("hive-scale.toml").read_text(encoding="utf-8")
-        assert written == example_text("hive-scale")
-        assert "resplan check hive-scale.toml" in result.stdout
-        assert runner.invoke(main, ["check", "hive-scale.toml"]).exit_code == 0
-        # no temporary files left behind
-        assert sorted(p.name for p in Path(".").iterdir()) == ["hive-scale.toml"]
+def test_init_writes_the_default_example(runner, tmp_path, monkeypatch):
+    # `init` with no target writes into the working folder: run it from an empty one.
+    monkeypatch.chdir(tmp_path)
+    result = runner.invoke(main, ["init"])
+    assert result.exit_code == 0, result.output
+    written = (tmp_path / "hive-scale.toml").read_text(encoding="utf-8")
+    assert written == example_text("hive-scale")
+    assert "resplan check hive-scale.toml" in result.stdout
+    assert runner.invoke(main, ["check", "hive-scale.toml"]).exit_code == 0
+    # no temporary files left behind
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["hive-scale.toml"]
 
 
 def test_init_refuses_to_overwrite_and_force_writes(runner, tmp_path):
