@@ -243,9 +243,13 @@ def test_result_does_not_depend_on_how_a_value_is_written(r_kohm, e_nv, gain):
     for other in results[1:]:
         assert math.isclose(other.total_rms_v, first.total_rms_v, rel_tol=1e-12)
         assert math.isclose(other.noise_free_bits, first.noise_free_bits, rel_tol=1e-12)
-        for a, b in zip(first.contributions, other.contributions, strict=True):
-            assert _key(a) == _key(b)
-            assert math.isclose(a.rms_v, b.rms_v, rel_tol=1e-12)
+        # Contributions are listed by share; two of equal share may swap on a last-bit
+        # difference, so match them by identity, not by position.
+        mine = {_key(c): c.rms_v for c in first.contributions}
+        theirs = {_key(c): c.rms_v for c in other.contributions}
+        assert mine.keys() == theirs.keys()
+        for key, rms_v in mine.items():
+            assert math.isclose(theirs[key], rms_v, rel_tol=1e-12)
 
 
 @FAST
