@@ -2,8 +2,8 @@
 
 Target: under 5 ms per budget. Two paths are timed:
 
-- cold: a chain never seen before — every cache of :mod:`resplan.bandwidth` and
-  :mod:`resplan.responses` is cleared before each run, so every noise bandwidth,
+- cold: a chain never seen before — every cache of :mod:`resplan.noise.bandwidth` and
+  :mod:`resplan.noise.responses` is cleared before each run, so every noise bandwidth,
   integration grid and lobe mean is computed afresh;
 - warm: the same chain again, with the caches filled by the run before.
 
@@ -32,7 +32,7 @@ from resplan import (  # noqa: E402
     forward_budget,
     responses,
 )
-from resplan.chain import Chain  # noqa: E402
+from resplan.chain.signal_chain import Chain  # noqa: E402
 
 TARGET_S = 5e-3
 GRID_POINTS = 2000

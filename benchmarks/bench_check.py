@@ -5,7 +5,7 @@ the best wall time against the target (0.6 s on a 2-core machine). Also runs
 ``-X importtime`` once and lists the slowest imports, and says whether any
 module that must stay off this path (matplotlib, reportlab, scipy) was loaded.
 It also checks every complete embedded example for modules its units do not
-need: pint reads only units outside resplan.unittables, so a design with
+need: pint reads only units outside resplan.units.tables, so a design with
 exotic units may load it, but the examples must not.
 
 This is a measurement, not a test: machines differ and a loaded machine is
@@ -32,7 +32,7 @@ NOT_NEEDED = ("pint",)
 
 
 def _write_example(name: str, folder: Path) -> Path:
-    from resplan.examples import example_text
+    from resplan.designfile.examples import example_text
 
     path = folder / f"{name}.toml"
     path.write_text(example_text(name), encoding="utf-8")
@@ -40,7 +40,7 @@ def _write_example(name: str, folder: Path) -> Path:
 
 
 def _complete_examples() -> list[str]:
-    from resplan.examples import EXAMPLE_NAMES, load_example
+    from resplan.designfile.examples import EXAMPLE_NAMES, load_example
 
     return [name for name in EXAMPLE_NAMES if load_example(name).is_complete]
 

@@ -25,8 +25,8 @@ TARGET_S = 4.0
 
 _SCRIPT = """
 import sys
-from resplan.examples import load_example
-from resplan.report import write_report
+from resplan.designfile.examples import load_example
+from resplan.output.report import write_report
 folder = sys.argv[2]
 figures = sys.argv[3] == "1"
 write_report(load_example(sys.argv[1]), folder + "/report.pdf",
@@ -35,7 +35,7 @@ write_report(load_example(sys.argv[1]), folder + "/report.pdf",
 
 
 def _complete_examples() -> list[str]:
-    from resplan.examples import EXAMPLE_NAMES, load_example
+    from resplan.designfile.examples import EXAMPLE_NAMES, load_example
 
     return [name for name in EXAMPLE_NAMES if load_example(name).is_complete]
 

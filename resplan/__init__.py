@@ -9,10 +9,8 @@ and write a requirements appendix. Everything inside is SI; see
 # The one place the version is written; pyproject.toml reads it from here.
 __version__ = "0.1.0"
 
-from .bandwidth import DigitalPath, NoiseBandwidth, integrate_psd, noise_bandwidth
-from .budget import Budget, Contribution, forward_budget
-from .chain import Band, Chain
-from .converter import (
+from .chain.budget import Budget, Contribution, forward_budget
+from .chain.converter import (
     ADC,
     InputNoiseDensity,
     NoiseAtRate,
@@ -20,10 +18,9 @@ from .converter import (
     SnrNoise,
     TransitionNoise,
 )
-from .errors import ChainError, DesignError, DesignErrors, ResplanError
-from .requirement import Requirement
-from .responses import AnalogLowpass, IdealLowpass, SincFilter
-from .stages import (
+from .chain.requirement import Requirement
+from .chain.signal_chain import Band, Chain
+from .chain.stages import (
     ActiveFilter,
     IntegratedAmplifier,
     NoiseDensity,
@@ -32,6 +29,9 @@ from .stages import (
     Reference,
     Sensor,
 )
+from .errors import ChainError, DesignError, DesignErrors, ResplanError
+from .noise.bandwidth import DigitalPath, NoiseBandwidth, integrate_psd, noise_bandwidth
+from .noise.responses import AnalogLowpass, IdealLowpass, SincFilter
 
 __all__ = [
     "ADC",

@@ -31,7 +31,7 @@ from . import __version__
 from .errors import ResplanError
 
 if TYPE_CHECKING:  # pragma: no cover
-    from .design import Design
+    from .chain.design import Design
 
 __all__ = [
     "main",
@@ -77,7 +77,7 @@ def exit_on_error() -> Iterator[None]:
 
 def load_design_or_exit(path: str) -> Design:
     """Load a design file, or print its problems (one per line) and exit 2."""
-    from .designfile import load_design
+    from .designfile.load import load_design
 
     with exit_on_error():
         return load_design(path)
@@ -111,7 +111,7 @@ def write_text_atomic(path: Path, text: str, *, force: bool = False) -> None:
     click.ClickException
         Handled by the callers: they turn it into one ``error:`` line.
     """
-    from .atomic import write_text_atomic as write
+    from .output.atomic import write_text_atomic as write
 
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
@@ -172,7 +172,7 @@ def init(path: Path | None, name: str | None, list_only: bool, force: bool) -> N
       resplan init --example soil-temperature logger.toml
       resplan init --list
     """
-    from .examples import DEFAULT_EXAMPLE, example_text, list_examples
+    from .designfile.examples import DEFAULT_EXAMPLE, example_text, list_examples
 
     if list_only:
         items = list_examples()
@@ -212,8 +212,8 @@ def check(design: str, as_json: bool, ascii_only: bool) -> None:
       resplan check hive-scale.toml --json | python3 -m json.tool
       resplan check design.toml || echo "review needed"
     """
-    from .designfile import check_design
-    from .textreport import check_data, format_budget
+    from .designfile.load import check_design
+    from .output.budget_text import check_data, format_budget
 
     loaded = load_design_or_exit(design)
     with exit_on_error():
@@ -233,7 +233,7 @@ def schema() -> None:
     Example:
       resplan schema > resplan-design.schema.json
     """
-    from .designfile import design_schema
+    from .designfile.load import design_schema
 
     emit_json(design_schema())
 
@@ -268,8 +268,8 @@ def plan(design: str, weights: str | None, as_json: bool, ascii_only: bool) -> N
       resplan plan kickoff.toml
       resplan plan kickoff.toml --weights "front end=2,adc=1" --json
     """
-    from .plan import parse_weights, plan_design
-    from .plantext import format_plan, plan_data
+    from .output.plan_text import format_plan, plan_data
+    from .plan.allocation import parse_weights, plan_design
 
     loaded = load_design_or_exit(design)
     with exit_on_error():
@@ -319,9 +319,9 @@ def report(
       resplan report -o hive-scale-report.pdf
       resplan report design.toml -o appendix.pdf --paper letter --figures figures/
     """
-    from .examples import DEFAULT_EXAMPLE, load_example
-    from .plan import parse_weights, plan_design
-    from .report import write_report
+    from .designfile.examples import DEFAULT_EXAMPLE, load_example
+    from .output.report import write_report
+    from .plan.allocation import parse_weights, plan_design
 
     loaded = load_design_or_exit(design) if design else load_example(DEFAULT_EXAMPLE)
     with exit_on_error():

@@ -72,7 +72,9 @@ class DesignError(ResplanError, ValueError):
         self.value = value
         self.expected = expected
         self.source = source
-        super().__init__(self._message())
+        # A file name or a key can hold line separators too: escape the whole line, for
+        # every subclass's message.
+        super().__init__(self._message().translate(_CONTROL))
 
     def _message(self) -> str:
         where = f"{self.source}: " if self.source else ""

@@ -15,9 +15,9 @@ import numpy as np
 import pytest
 
 from resplan import AnalogLowpass, DigitalPath, IdealLowpass, SincFilter, noise_bandwidth
-from resplan.bandwidth import integrate_psd
 from resplan.errors import ChainError, DesignError
-from resplan.responses import butterworth_enbw_ratio
+from resplan.noise.bandwidth import integrate_psd
+from resplan.noise.responses import butterworth_enbw_ratio
 
 # --- closed forms ---------------------------------------------------------------------
 

@@ -41,7 +41,7 @@ from resplan import (
     TransitionNoise,
     forward_budget,
 )
-from resplan.chain import Chain
+from resplan.chain.signal_chain import Chain
 from resplan.errors import ChainError, DesignError, ResplanError
 
 K_B = constants.k  # exact (SI 2019)
@@ -273,7 +273,7 @@ def test_reference_without_a_filter_is_flat_to_half_the_sample_rate():
 def test_reference_density_from_a_band_figure_round_trips():
     # Inverting v² = e_w²(f_c·ln(f_H/f_L) + f_H − f_L) (DOMAIN.md §2) and integrating back.
     density = Reference.density_from_band_rms(3e-6, 0.1, 10.0, 10.0)
-    from resplan.physics import integrate_flicker_white
+    from resplan.noise.physics import integrate_flicker_white
 
     back = float(integrate_flicker_white(density.white, density.corner_hz, 0.1, 10.0))
     assert back == pytest.approx(3e-6, rel=1e-12)

@@ -16,7 +16,7 @@ from pypdf import PdfReader
 
 from resplan import __version__
 from resplan.cli import main
-from resplan.examples import EXAMPLE_NAMES, example_text
+from resplan.designfile.examples import EXAMPLE_NAMES, example_text
 
 COMPLETE = ("hive-scale", "soil-temperature", "pipeline-vibration")
 #: The exit status each complete example is stated (in its first line) to give.

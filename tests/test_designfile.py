@@ -15,15 +15,17 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from resplan.converter import (
+from resplan.chain.converter import (
     InputNoiseDensity,
     NoiseAtRate,
     NoiseTable,
     SnrNoise,
     TransitionNoise,
 )
-from resplan.design import PART_KINDS, OpenPart
-from resplan.designfile import (
+from resplan.chain.design import PART_KINDS, OpenPart
+from resplan.chain.stages import ActiveFilter, IntegratedAmplifier, NonInvertingStage, RCFilter
+from resplan.designfile.examples import EXAMPLE_NAMES, example_text
+from resplan.designfile.load import (
     DesignFileError,
     check_design,
     design_from_mapping,
@@ -32,9 +34,7 @@ from resplan.designfile import (
     loads_design,
 )
 from resplan.errors import DesignError, DesignErrors, ResplanError
-from resplan.examples import EXAMPLE_NAMES, example_text
-from resplan.responses import IdealLowpass, SincFilter
-from resplan.stages import ActiveFilter, IntegratedAmplifier, NonInvertingStage, RCFilter
+from resplan.noise.responses import IdealLowpass, SincFilter
 
 HIVE = example_text("hive-scale")
 SOIL = example_text("soil-temperature")
@@ -669,3 +669,14 @@ def test_garbage_inserted_in_text_gives_clean_errors(example, position, junk):
 def test_random_text_gives_clean_errors(text):
     with pytest.raises(ResplanError):
         loads_design(text, "r.toml")
+
+
+def test_a_line_separator_in_a_key_stays_on_one_line():
+    # Found by the mutation test above: U+0085 (NEL) typed into a [meta] key. Python's
+    # str.splitlines breaks at NEL, so an unescaped key split the problem over two lines.
+    text = example_text("hive-scale").replace("[meta]\n", '[meta]\n"\x85" = 1\n', 1)
+    with pytest.raises(DesignErrors) as info:
+        loads_design(text, "m.toml")
+    lines = str(info.value).splitlines()
+    assert all(line.startswith("m.toml: ") for line in lines)
+    assert any("\\x85" in line for line in lines)

@@ -13,16 +13,16 @@ import numpy as np
 import pytest
 from scipy import constants, integrate, signal, special
 
-from resplan.design import OpenPart
-from resplan.designfile import check_design
-from resplan.examples import (
+from resplan.chain.design import OpenPart
+from resplan.designfile.examples import (
     DEFAULT_EXAMPLE,
     EXAMPLE_NAMES,
     example_text,
     list_examples,
     load_example,
 )
-from resplan.textreport import check_data, format_budget, verdict
+from resplan.designfile.load import check_design
+from resplan.output.budget_text import check_data, format_budget, verdict
 
 COMPLETE = ("hive-scale", "soil-temperature", "pipeline-vibration")
 

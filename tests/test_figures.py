@@ -1,4 +1,4 @@
-"""Curves for figures (resplan.spectra) and the figures themselves (resplan.figures).
+"""Curves for figures (resplan.output.spectra) and the figures themselves (resplan.output.figures).
 
 The curves are checked against closed forms and theorems from outside the
 project (named beside each check); the figures are checked for what a reader
@@ -27,11 +27,11 @@ from resplan import (
     TransitionNoise,
     forward_budget,
 )
-from resplan.chain import Chain
-from resplan.design import Design, Meta
+from resplan.chain.signal_chain import Chain
+from resplan.designfile.examples import EXAMPLE_NAMES, load_example
 from resplan.errors import DesignError
-from resplan.examples import EXAMPLE_NAMES, load_example
-from resplan.figures import (
+from resplan.noise.physics import BOLTZMANN_J_PER_K
+from resplan.output.figures import (
     DEFAULT_DPI,
     FIGURE_TITLES,
     OKABE_ITO,
@@ -39,8 +39,7 @@ from resplan.figures import (
     make_figures,
     save_figures,
 )
-from resplan.physics import BOLTZMANN_J_PER_K
-from resplan.spectra import cumulative_noise, noise_spectra, resolution_sweep
+from resplan.output.spectra import cumulative_noise, noise_spectra, resolution_sweep
 
 #: Sweep counts kept short so the tests stay fast.
 FEW_COUNTS = (1, 2, 4)
@@ -82,21 +81,6 @@ def invented_delta_sigma_chain() -> Chain:
             data_rate_hz=100.0,
         ),
         digital=DigitalPath((SincFilter(3, 2560, rate),)),
-    )
-
-
-def design_of(chain: Chain, counts: float = 1000.0) -> Design:
-    """An INVENTED design around a chain."""
-    return Design(
-        meta=Meta(title="Invented test design"),
-        requirement=Requirement(span_v=chain.sensor.span_v, noise_free_counts=counts),
-        band=Band(0.01),
-        sensor=chain.sensor,
-        stages=chain.stages,
-        adc=chain.adc,
-        reference=chain.reference,
-        digital=chain.digital,
-        temperature_k=chain.temperature_k,
     )
 
 
@@ -339,7 +323,7 @@ def test_save_figures_refuses_a_file_as_folder_and_a_low_dpi(tmp_path):
 
 
 def test_allocation_figure_for_a_plan_with_open_parts():
-    plan_module = pytest.importorskip("resplan.plan")
+    plan_module = pytest.importorskip("resplan.plan.allocation")
     design = load_example("kickoff-bridge")
     plan = plan_module.plan_design(design)
     figs = make_figures(design, None, plan)

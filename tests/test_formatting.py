@@ -1,4 +1,4 @@
-"""Tests of resplan.formatting: SI floats written with units.
+"""Tests of resplan.units.formatting: SI floats written with units.
 
 Prefix values: SI Brochure, 9th ed. (BIPM 2019), Table 7, written out here
 independently of the module. The degree Celsius: T/K = t/°C + 273.15 (ibid.,
@@ -15,7 +15,7 @@ import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from resplan.formatting import (
+from resplan.units.formatting import (
     NO_PREFIX_UNITS,
     ascii_units,
     format_bits,
@@ -25,7 +25,7 @@ from resplan.formatting import (
     format_si,
     format_temperature,
 )
-from resplan.units import parse_quantity
+from resplan.units.parse import parse_quantity
 
 NAN = float("nan")
 INF = float("inf")

@@ -14,8 +14,8 @@ import numpy as np
 import pytest
 from scipy import constants, integrate, special
 
-from resplan import physics
 from resplan.errors import DesignError, ResplanError
+from resplan.noise import physics
 
 K_B = constants.k  # CODATA 2018 / SI 2019, exact
 Q_E = constants.e  # CODATA 2018 / SI 2019, exact

@@ -28,9 +28,9 @@ from resplan import (
     SincFilter,
     forward_budget,
 )
-from resplan.design import Design, Meta, OpenPart
+from resplan.chain.design import Design, Meta, OpenPart
 from resplan.errors import DesignError, ResplanError
-from resplan.plan import parse_weights, plan_design, realise
+from resplan.plan.allocation import parse_weights, plan_design, realise
 
 FS = 256_000.0
 

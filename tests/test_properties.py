@@ -37,7 +37,7 @@ from resplan import (
     TransitionNoise,
     forward_budget,
 )
-from resplan.chain import Chain
+from resplan.chain.signal_chain import Chain
 
 FAST = settings(deadline=None, max_examples=40, derandomize=True)
 SAMPLE_RATE_HZ = 1e6

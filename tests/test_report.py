@@ -1,7 +1,7 @@
-"""The PDF requirements appendix (resplan.report).
+"""The PDF requirements appendix (resplan.output.report).
 
 pypdf reads the text back; every section title and the numbers the budget
-gives (``Budget.to_dict()``, written with resplan.formatting as ``resplan
+gives (``Budget.to_dict()``, written with resplan.units.formatting as ``resplan
 check`` writes them) must be in it. Failures must leave no file and leave an
 existing one untouched. Every design built here is INVENTED; figures are
 drawn at a low resolution to keep the tests fast.
@@ -15,26 +15,18 @@ import sys
 
 import pypdf
 import pytest
+from invented import design_of, invented_bridge_chain
 
 from resplan import (
-    ADC,
-    Band,
-    DigitalPath,
-    IntegratedAmplifier,
-    NoiseAtRate,
-    NoiseDensity,
-    RCFilter,
-    Reference,
     Requirement,
-    Sensor,
-    SincFilter,
     __version__,
     forward_budget,
 )
-from resplan.design import Design, Meta, OpenPart
+from resplan.chain.design import Design, Meta, OpenPart
+from resplan.designfile.examples import load_example
 from resplan.errors import DesignError
-from resplan.examples import load_example
-from resplan.formatting import (
+from resplan.output.report import PAPER_SIZES, SECTION_TITLES, write_report
+from resplan.units.formatting import (
     format_bits,
     format_counts,
     format_db,
@@ -42,7 +34,6 @@ from resplan.formatting import (
     format_si,
     format_temperature,
 )
-from resplan.report import PAPER_SIZES, SECTION_TITLES, write_report
 
 LOW_DPI = 50
 FEW_COUNTS = (1, 2, 4)
@@ -50,9 +41,8 @@ INVENTED_SHA = "0123456789abcdef" * 4
 
 
 def invented_design(**overrides) -> Design:
-    """INVENTED bridge design: 350 Ω, 10 mV → RC → PGA ×128 → delta-sigma, sinc3 to 10 Hz."""
-    rate = 256_000.0
-    sensor = Sensor(span_v=10e-3, resistance_ohm=350.0, name="invented bridge")
+    """INVENTED bridge design: the shared bridge chain (350 Ω, 10 mV → RC → PGA ×128 →
+    delta-sigma, sinc3 to 10 Hz) with a title block, a requirement and a file digest."""
     fields = dict(
         meta=Meta(
             title="Invented scale & logger <test>",
@@ -69,39 +59,11 @@ def invented_design(**overrides) -> Design:
             engineering_unit="kg",
             engineering_per_volt=200 / 10e-3,
         ),
-        band=Band(0.01),
-        sensor=sensor,
-        stages=(
-            RCFilter("invented input RC", 1e3, 100e-9),
-            IntegratedAmplifier(
-                "invented PGA",
-                gain=128.0,
-                input_noise=NoiseDensity(12e-9, 2.0),
-                current_noise=NoiseDensity(0.3e-12, 0.0),
-                bandwidth_hz=50e3,
-            ),
-        ),
-        adc=ADC(
-            "invented delta-sigma ADC",
-            "delta-sigma",
-            24,
-            5.0,
-            rate,
-            NoiseAtRate(0.2e-6, 10.0),
-            data_rate_hz=10.0,
-        ),
-        reference=Reference(
-            2.5,
-            Reference.density_from_band_rms(3e-6, 0.1, 10.0, 10.0),
-            filter_cutoff_hz=100.0,
-            name="invented reference",
-        ),
-        digital=DigitalPath((SincFilter(3, 25_600, rate),)),
         source="invented.toml",
         sha256=INVENTED_SHA,
     )
     fields.update(overrides)
-    return Design(**fields)
+    return design_of(invented_bridge_chain(), **fields)
 
 
 def pdf_text(path) -> tuple[str, list]:
@@ -143,7 +105,7 @@ def test_pages_are_numbered_n_of_m(a4_report):
 
 
 def _numbers(budget) -> list[str]:
-    """The budget's numbers as resplan.formatting writes them."""
+    """The budget's numbers as resplan.units.formatting writes them."""
     d = budget.to_dict()
     adc = d["adc_range"]
     req = d["requirement"]
@@ -272,7 +234,7 @@ def test_figures_are_embedded_with_captions(a4_report):
     ],
 )
 def test_paper_size(tmp_path, paper, size_pt, a4_report, monkeypatch):
-    import resplan.report as report
+    import resplan.output.report.document as report
 
     monkeypatch.setattr(report, "make_figures", lambda *a, **k: {})
     path = write_report(invented_design(), tmp_path / "out.pdf", paper=paper, dpi=LOW_DPI)
@@ -287,7 +249,7 @@ def _leftovers(folder, keep):
 
 
 def test_a_failing_figure_leaves_no_file(tmp_path, monkeypatch):
-    import resplan.report as report
+    import resplan.output.report.document as report
 
     def broken(*args, **kwargs):
         raise RuntimeError("injected failure")
@@ -301,7 +263,7 @@ def test_a_failing_figure_leaves_no_file(tmp_path, monkeypatch):
 
 
 def test_a_failure_after_the_pdf_is_drawn_leaves_the_old_file_untouched(tmp_path, monkeypatch):
-    import resplan.report as report
+    import resplan.output.report.document as report
 
     target = tmp_path / "appendix.pdf"
     target.write_bytes(b"the previous report")
@@ -360,7 +322,7 @@ def test_bad_output_paths_are_design_errors(tmp_path):
 
 
 def test_date_defaults_to_today(tmp_path, monkeypatch):
-    import resplan.report as report
+    import resplan.output.report.document as report
 
     monkeypatch.setattr(report, "make_figures", lambda *a, **k: {})
     design = invented_design(meta=Meta(title="Invented undated design"))
@@ -369,10 +331,11 @@ def test_date_defaults_to_today(tmp_path, monkeypatch):
 
 
 def test_report_without_the_planner_says_so(tmp_path, monkeypatch):
-    import resplan.report as report
+    import resplan.output.report.document as report
 
     monkeypatch.setattr(report, "make_figures", lambda *a, **k: {})
-    monkeypatch.setitem(sys.modules, "resplan.plan", None)  # import now raises ImportError
+    # the import now raises ImportError
+    monkeypatch.setitem(sys.modules, "resplan.plan.allocation", None)
     text, _ = pdf_text(write_report(invented_design(), tmp_path / "x.pdf", dpi=LOW_DPI))
     assert "The plan was not computed: the planner is not available" in text
 
@@ -385,7 +348,7 @@ def invented_open_design() -> Design:
 
 
 def test_open_design_reports_the_open_parts_and_the_plan(tmp_path, monkeypatch):
-    import resplan.report as report
+    import resplan.output.report.document as report
 
     monkeypatch.setattr(report, "make_figures", lambda *a, **k: {})
     text, _ = pdf_text(write_report(invented_open_design(), tmp_path / "x.pdf", dpi=LOW_DPI))
@@ -393,7 +356,7 @@ def test_open_design_reports_the_open_parts_and_the_plan(tmp_path, monkeypatch):
     for title in SECTION_TITLES:
         assert title in text
     try:
-        from resplan.plan import plan_design
+        from resplan.plan.allocation import plan_design
     except ImportError:  # pragma: no cover - planner not installed
         assert "The plan was not computed" in text
         return

@@ -15,7 +15,7 @@ import pytest
 from scipy import integrate, signal
 
 from resplan.errors import DesignError
-from resplan.responses import (
+from resplan.noise.responses import (
     AnalogLowpass,
     IdealLowpass,
     SincFilter,

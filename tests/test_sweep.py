@@ -1,4 +1,4 @@
-"""Resolution against output data rate (resplan.spectra.resolution_sweep) and its figure.
+"""Resolution against output data rate (resplan.output.spectra.resolution_sweep) and its figure.
 
 Every point of the sweep is a full forward budget of a chain variant; these tests
 check that the variants are the ones a designer means (the converter's own data
@@ -29,19 +29,19 @@ from resplan import (
     TransitionNoise,
     forward_budget,
 )
-from resplan.chain import Chain
-from resplan.converter import InputNoiseDensity, NoiseTable, SnrNoise
-from resplan.design import Design, Meta
+from resplan.chain.converter import InputNoiseDensity, NoiseTable, SnrNoise
+from resplan.chain.design import Design, Meta
+from resplan.chain.signal_chain import Chain
+from resplan.chain.stages import NoiseDensity
 from resplan.errors import DesignError
-from resplan.figures import caption, make_figures
-from resplan.physics import peak_to_peak_factor
-from resplan.spectra import (
+from resplan.noise.physics import peak_to_peak_factor
+from resplan.output.figures import caption, make_figures
+from resplan.output.spectra import (
     SWEEP_AVERAGING,
     SWEEP_DATA_RATE,
     rate_carry,
     resolution_sweep,
 )
-from resplan.stages import NoiseDensity
 
 #: Modulator rate of the invented delta-sigma converters, Hz.
 FS = 256_000.0

@@ -1,4 +1,4 @@
-"""Tests of resplan.units: quantities with units read from design files.
+"""Tests of resplan.units.parse: quantities with units read from design files.
 
 Reference values come from scipy.constants (CODATA 2018 and the exact
 conventional values it lists) and the SI Brochure, 9th ed. (BIPM 2019); the
@@ -18,7 +18,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from resplan.errors import DesignError, describe_value
-from resplan.units import (
+from resplan.units.parse import (
     DIMENSIONS,
     parse_any,
     parse_db,
@@ -406,7 +406,7 @@ def test_parse_percent_errors(value):
 
 def test_every_spelling_is_unambiguous():
     """No unit spelling (prefixed symbols included) has two readings."""
-    from resplan.units import _registry, _spellings
+    from resplan.units.parse import _registry, _spellings
 
     ureg = _registry()
     for spelling in _spellings():
@@ -422,7 +422,7 @@ def test_gram_and_standard_gravity_stay_apart():
 
 def test_import_does_not_load_pint():
     """pint is imported lazily, inside a function, so the module stays cheap."""
-    source = Path(__file__).parents[1] / "resplan" / "units.py"
+    source = Path(__file__).parents[1] / "resplan" / "units" / "parse.py"
     tree = ast.parse(source.read_text(encoding="utf-8"))
     for node in tree.body:
         if isinstance(node, ast.If):  # the TYPE_CHECKING block

@@ -1,7 +1,7 @@
 """The pint-free path for common units gives exactly what pint gives.
 
-resplan.units reads the common unit expressions from its own tables
-(resplan.unittables) and every other one through pint. The outside reference
+resplan.units.parse reads the common unit expressions from its own tables
+(resplan.units.tables) and every other one through pint. The outside reference
 here is pint 0.2x itself, driven by resplan/units.txt as before the tables
 existed: with the private switch ``_set_fast_path(False)`` every expression
 goes to pint, and each check below asks for the same outcome both ways, to
@@ -28,12 +28,13 @@ import scipy.constants as sc
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from resplan import units, unittables
 from resplan.errors import DesignError
-from resplan.units import DIMENSIONS, parse_any, parse_percent, parse_quantity, same_dimension
+from resplan.units import parse as units
+from resplan.units import tables as unittables
+from resplan.units.parse import DIMENSIONS, parse_any, parse_percent, parse_quantity, same_dimension
 
 ROOT = Path(__file__).parents[1]
-EXAMPLE_FILES = sorted((ROOT / "resplan" / "examples").glob("*.toml")) + [
+EXAMPLE_FILES = sorted((ROOT / "resplan" / "designfile" / "examples").glob("*.toml")) + [
     ROOT / "examples" / "minimal.toml"
 ]
 
@@ -273,7 +274,7 @@ def test_reading_every_example_does_not_import_pint():
     # a fresh interpreter: the test process itself has pint loaded already
     probe = (
         "import sys\n"
-        "from resplan.designfile import load_design\n"
+        "from resplan.designfile.load import load_design\n"
         "for path in sys.argv[1:]:\n"
         "    load_design(path)\n"
         "print('pint' in sys.modules)\n"

@@ -1,0 +1,615 @@
+"""The forward noise budget: every contribution of a chain, referred to the sensor.
+
+Each source is a 1/f + white density at the point where it enters (or, for the
+ADC, a figure quoted by its data sheet). Densities are integrated through the
+analog responses between their entry point and the ADC and through the digital
+filtering after it, aliases included (:mod:`resplan.noise.bandwidth`); the result is
+divided by the gain in front of the entry point to refer it to the sensor:
+
+    σ_RTI² = σ₁² + σ₂²/G₁² + σ₃²/(G₁G₂)² + …
+
+Uncorrelated sources add in power. Reference noise is evaluated at the largest
+input the sensor produces: an input V_in sees an error V_in·σ_ref/V_ref, zero at
+zero input.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Any
+
+from ..errors import ChainError
+from ..noise.bandwidth import NoiseBandwidth, noise_bandwidth
+from ..noise.physics import (
+    enob_from_sinad,
+    noise_rms_to_snr,
+    peak_to_peak_factor,
+    thermal_noise_density,
+)
+from .converter import (
+    InputNoiseDensity,
+    NoiseAtRate,
+    NoiseTable,
+    SnrNoise,
+    TransitionNoise,
+)
+from .requirement import DEFAULT_COVERAGE, Requirement
+from .resolution import dynamic_range_db, effective_bits, noise_free_bits, noise_free_counts
+from .signal_chain import Band, Chain, describe_reference
+from .stages import (
+    ActiveFilter,
+    IntegratedAmplifier,
+    NoiseDensity,
+    NonInvertingStage,
+    RCFilter,
+)
+
+__all__ = ["Contribution", "Budget", "forward_budget", "KINDS", "DOMINANCE_RATIO"]
+
+#: Kinds of contribution.
+KINDS = ("thermal", "sensor", "voltage", "current", "reference", "adc", "quantisation")
+#: A source under 1/5 of the largest adds only ~2 % to the total (common practice, no source).
+DOMINANCE_RATIO = 0.2
+
+
+@dataclass(frozen=True)
+class Contribution:
+    """One noise source of a chain.
+
+    Attributes
+    ----------
+    name : str
+        What the source is, such as ``"e_n"`` or ``"i_n+ · R_source"``.
+    stage : str
+        The stage it belongs to.
+    kind : str
+        One of :data:`KINDS`.
+    rms_v : float
+        RMS referred to the sensor, V, over the chain's noise band.
+    adc_rms_v : float
+        The same at the ADC input, V.
+    share : float
+        Fraction of the total noise power.
+    density_v_per_rthz : float or None
+        White density referred to the sensor, V/√Hz, for density sources.
+    corner_hz : float or None
+        Its 1/f corner, Hz.
+    noise_bandwidth_hz : float or None
+        White noise bandwidth of its path, Hz.
+    note : str
+        How the figure was obtained.
+    """
+
+    name: str
+    stage: str
+    kind: str
+    rms_v: float
+    adc_rms_v: float
+    share: float = 0.0
+    density_v_per_rthz: float | None = None
+    corner_hz: float | None = None
+    noise_bandwidth_hz: float | None = None
+    note: str = ""
+    #: Analog responses between its entry point and the ADC (for spectra and figures).
+    responses: tuple = field(default=(), repr=False, compare=False)
+    #: DC gain from the sensor to its entry point, V/V.
+    gain_in_front: float = 1.0
+
+
+@dataclass(frozen=True)
+class Budget:
+    """A forward noise budget and the resolution it gives.
+
+    Every rms is referred to the sensor unless its name says ``adc``. Spans are
+    peak-to-peak ranges. See :func:`forward_budget`.
+    """
+
+    contributions: tuple[Contribution, ...]
+    total_rms_v: float
+    gain: float
+    span_v: float
+    adc_full_scale_v: float
+    adc_alone_rms_v: float
+    coverage: float
+    temperature_k: float
+    sensor_temperature_k: float
+    f_low_hz: float
+    f_high_hz: float | None
+    output_rate_hz: float
+    reference_note: str
+    requirement: Requirement | None = None
+    warnings: tuple[str, ...] = field(default_factory=tuple)
+    #: The sensor's output range at the ADC (offset included) leaves its input window.
+    outside_window: bool = False
+
+    @property
+    def k_pp(self) -> float:
+        """Peak-to-peak factor of the coverage (6.58 at 99.9 %)."""
+        return peak_to_peak_factor(self.coverage)
+
+    @property
+    def total_adc_rms_v(self) -> float:
+        """Total noise at the ADC input, V rms."""
+        return self.total_rms_v * self.gain
+
+    @property
+    def adc_span_at_sensor_v(self) -> float:
+        """The ADC's full-scale range referred to the sensor, V."""
+        return self.adc_full_scale_v / self.gain
+
+    @property
+    def adc_range_used(self) -> float:
+        """Fraction of the ADC's range the sensor span uses (> 1 overloads)."""
+        return self.span_v * self.gain / self.adc_full_scale_v
+
+    @property
+    def effective_bits(self) -> float:
+        return effective_bits(self.span_v, self.total_rms_v)
+
+    @property
+    def noise_free_bits(self) -> float:
+        return noise_free_bits(self.span_v, self.total_rms_v, self.k_pp)
+
+    @property
+    def noise_free_counts(self) -> float:
+        return noise_free_counts(self.span_v, self.total_rms_v, self.k_pp)
+
+    @property
+    def effective_bits_adc_range(self) -> float:
+        return effective_bits(self.adc_full_scale_v, self.total_adc_rms_v)
+
+    @property
+    def noise_free_bits_adc_range(self) -> float:
+        return noise_free_bits(self.adc_full_scale_v, self.total_adc_rms_v, self.k_pp)
+
+    @property
+    def noise_free_counts_adc_range(self) -> float:
+        return noise_free_counts(self.adc_full_scale_v, self.total_adc_rms_v, self.k_pp)
+
+    @property
+    def dynamic_range_db(self) -> float:
+        """Full-scale sine over the sensor span against the total noise, dB."""
+        return dynamic_range_db(self.span_v, self.total_rms_v)
+
+    @property
+    def snr_db(self) -> float:
+        """Full-scale sine of the ADC range against the total noise at its input, dB."""
+        return float(noise_rms_to_snr(self.total_adc_rms_v, self.adc_full_scale_v))
+
+    @property
+    def adc_enob(self) -> float:
+        """ENOB of the ADC alone (its own noise and quantisation at its own data rate, before
+        any post-averaging), IEEE Std 1241."""
+        return float(enob_from_sinad(noise_rms_to_snr(self.adc_alone_rms_v, self.adc_full_scale_v)))
+
+    @property
+    def dominant(self) -> tuple[Contribution, ...]:
+        """Contributors within 1/5 of the largest (common practice, no source)."""
+        if not self.contributions:
+            return ()
+        top = max(c.rms_v for c in self.contributions)
+        return tuple(c for c in self.contributions if c.rms_v >= DOMINANCE_RATIO * top and top > 0)
+
+    @property
+    def overloaded(self) -> bool:
+        """The span needs more than the ADC range, or leaves its input window."""
+        return self.adc_range_used > 1.0 + 1e-12 or self.outside_window
+
+    @property
+    def allowed_rms_v(self) -> float | None:
+        """Noise the requirement allows after the interference allowance, V rms."""
+        return None if self.requirement is None else self.requirement.allowed_noise_rms_v
+
+    @property
+    def margin_bits(self) -> float | None:
+        """log2(allowed/actual): bits of noise-free resolution to spare (negative: short)."""
+        allowed = self.allowed_rms_v
+        if allowed is None:
+            return None
+        if allowed == 0:
+            return -math.inf
+        return math.inf if self.total_rms_v == 0 else math.log2(allowed / self.total_rms_v)
+
+    @property
+    def meets_requirement(self) -> bool | None:
+        if self.requirement is None:
+            return None
+        return (not self.overloaded) and self.total_rms_v <= self.allowed_rms_v * (1 + 1e-12)
+
+    def to_dict(self) -> dict[str, Any]:
+        """Plain data with stable keys (SI units; the key names the unit)."""
+        req = self.requirement
+        return {
+            "total_noise_rms_v": self.total_rms_v,
+            "total_noise_adc_rms_v": self.total_adc_rms_v,
+            "effective_bits": self.effective_bits,
+            "noise_free_bits": self.noise_free_bits,
+            "noise_free_counts": self.noise_free_counts,
+            "adc_range": {
+                "full_scale_range_v": self.adc_full_scale_v,
+                "effective_bits": self.effective_bits_adc_range,
+                "noise_free_bits": self.noise_free_bits_adc_range,
+                "noise_free_counts": self.noise_free_counts_adc_range,
+            },
+            "coverage": self.coverage,
+            "coverage_factor_pp": self.k_pp,
+            "snr_db": self.snr_db,
+            "dynamic_range_db": self.dynamic_range_db,
+            "adc_enob": self.adc_enob,
+            "adc_range_used": self.adc_range_used,
+            "outside_adc_window": self.outside_window,
+            "gain": self.gain,
+            "span_v": self.span_v,
+            "temperature_k": self.temperature_k,
+            "sensor_temperature_k": self.sensor_temperature_k,
+            "band": {"f_low_hz": self.f_low_hz, "f_high_hz": self.f_high_hz},
+            "output_rate_hz": self.output_rate_hz,
+            "reference": self.reference_note,
+            "meets_requirement": self.meets_requirement,
+            "margin_bits": self.margin_bits,
+            "requirement": None
+            if req is None
+            else {
+                "description": req.description,
+                "allowed_total_rms_v": req.allowed_total_rms_v,
+                "interference_rms_v": req.interference_rms_v,
+                "allowed_noise_rms_v": req.allowed_noise_rms_v,
+                "noise_free_bits": req.required_noise_free_bits,
+                "noise_free_counts": req.noise_free_counts,
+                "dynamic_range_db": req.dynamic_range_db,
+            },
+            "dominant": [c.name + " (" + c.stage + ")" for c in self.dominant],
+            "warnings": list(self.warnings),
+            "contributors": [
+                {
+                    "name": c.name,
+                    "stage": c.stage,
+                    "kind": c.kind,
+                    "rms_v": c.rms_v,
+                    "adc_rms_v": c.adc_rms_v,
+                    "share": c.share,
+                    "density_v_per_rthz": c.density_v_per_rthz,
+                    "corner_hz": c.corner_hz,
+                    "noise_bandwidth_hz": c.noise_bandwidth_hz,
+                    "note": c.note,
+                }
+                for c in self.contributions
+            ],
+        }
+
+
+class _Collector:
+    """Builds contributions for one chain."""
+
+    def __init__(self, chain: Chain, band: Band, grid_points: int):
+        self.chain = chain
+        self.band = band
+        self.grid_points = grid_points
+        self.gain = chain.total_gain
+        self.items: list[Contribution] = []
+
+    def bandwidth(self, responses, where: str, folded_source: bool = False) -> NoiseBandwidth:
+        try:
+            return noise_bandwidth(
+                responses,
+                self.chain.digital,
+                self.band.f_low_hz,
+                grid_points=self.grid_points,
+                folded_source=folded_source,
+            )
+        except ChainError as err:
+            raise ChainError(
+                where,
+                "no band limit",
+                "an analog bandwidth (gbw, bandwidth or a filter stage) that bounds the noise "
+                f"of {where} before the ADC samples it (a digital filter cannot: white noise "
+                "aliases without end)",
+            ) from err
+
+    def density(
+        self,
+        name: str,
+        stage: str,
+        kind: str,
+        noise: NoiseDensity,
+        gain_in_front: float,
+        responses: tuple,
+        note: str = "",
+    ) -> None:
+        """A density entering after ``gain_in_front`` of gain, filtered by ``responses``."""
+        if noise.white == 0:
+            return
+        nb = self.bandwidth(responses, stage)
+        rms_at_entry = nb.rms(noise.white, noise.corner_hz)
+        rti = rms_at_entry / gain_in_front
+        self.items.append(
+            Contribution(
+                name=name,
+                stage=stage,
+                kind=kind,
+                rms_v=rti,
+                adc_rms_v=rti * self.gain,
+                density_v_per_rthz=noise.white / gain_in_front,
+                corner_hz=noise.corner_hz,
+                noise_bandwidth_hz=nb.white_hz,
+                note=note,
+                responses=tuple(responses),
+                gain_in_front=gain_in_front,
+            )
+        )
+
+    def at_adc(self, name: str, stage: str, kind: str, adc_rms_v: float, note: str) -> None:
+        self.items.append(
+            Contribution(name, stage, kind, adc_rms_v / self.gain, adc_rms_v, note=note)
+        )
+
+
+def forward_budget(
+    chain: Chain,
+    band: Band | None = None,
+    coverage: float | None = None,
+    requirement: Requirement | None = None,
+    *,
+    grid_points: int = 2000,
+) -> Budget:
+    """Compute every noise contribution of a chain and the resolution it gives.
+
+    Parameters
+    ----------
+    chain : Chain
+        The chain, every part given.
+    band : Band, optional
+        Lower band edge (bounds the 1/f noise) and signal band; ``Band()`` (10 mHz) if omitted.
+    coverage : float, optional
+        Coverage probability for peak-to-peak figures; the requirement's, else 99.9 %.
+    requirement : Requirement, optional
+        When given, the budget says whether it is met and by what margin.
+    grid_points : int
+        Points of the integration grid.
+
+    Returns
+    -------
+    Budget
+
+    Raises
+    ------
+    ChainError
+        When a noise band is unbounded or ADC noise is quoted at other conditions.
+    """
+    band = band or Band()
+    if coverage is None:
+        coverage = requirement.coverage if requirement else DEFAULT_COVERAGE
+    peak_to_peak_factor(coverage)
+    c = _Collector(chain, band, grid_points)
+    sensor = chain.sensor
+    t = chain.temperature_k
+    t_sensor = chain.sensor_temperature_k
+    warnings: list[str] = []
+
+    path = chain.responses_from(0)
+    c.density(
+        "thermal noise of source resistance",
+        sensor.name,
+        "thermal",
+        NoiseDensity(float(thermal_noise_density(sensor.resistance_ohm, t_sensor))),
+        1.0,
+        path,
+        f"√(4kTR) at {t_sensor:.2f} K",
+    )
+    if sensor.noise is not None:
+        c.density("sensor's own noise", sensor.name, "sensor", sensor.noise, 1.0, path)
+
+    for i, stage in enumerate(chain.stages):
+        _stage_contributions(c, i, stage, t)
+
+    _reference_contribution(c, chain, band)
+    adc_alone_rms = _adc_contributions(c, chain, band, warnings)
+
+    total = math.sqrt(sum(x.rms_v**2 for x in c.items))
+    items = sorted(c.items, key=lambda x: x.rms_v, reverse=True)
+    total_power = total**2
+    items = [
+        Contribution(**{**x.__dict__, "share": (x.rms_v**2 / total_power) if total_power else 0.0})
+        for x in items
+    ]
+    budget = Budget(
+        contributions=tuple(items),
+        total_rms_v=total,
+        gain=chain.total_gain,
+        span_v=sensor.span_v,
+        adc_full_scale_v=chain.adc.full_scale_range_v,
+        adc_alone_rms_v=adc_alone_rms,
+        coverage=coverage,
+        temperature_k=t,
+        sensor_temperature_k=t_sensor,
+        f_low_hz=band.f_low_hz,
+        f_high_hz=band.f_high_hz,
+        output_rate_hz=chain.output_rate_hz,
+        reference_note=describe_reference(chain.reference),
+        requirement=requirement,
+        warnings=(),
+    )
+    if budget.adc_range_used > 1.0 + 1e-12:
+        warnings.append(
+            f"the sensor span at the ADC is {budget.adc_range_used:.3g} of its full-scale range: "
+            "the ADC overloads; lower the gain"
+        )
+    outside = False
+    window = chain.adc.input_window_v
+    low, high = (v * chain.total_gain for v in sensor.output_range_v)
+    if window is not None and (
+        low < window[0] - 1e-12 * abs(window[1]) or high > window[1] * (1 + 1e-12)
+    ):
+        outside = True
+        warnings.append(
+            f"the sensor output at the ADC runs from {low:.4g} V to {high:.4g} V, outside its "
+            f"{chain.adc.input_polarity} input window {window[0]:.4g} V … {window[1]:.4g} V: "
+            "shift the offset or change the gain"
+        )
+    return Budget(**{**budget.__dict__, "warnings": tuple(warnings), "outside_window": outside})
+
+
+def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> None:
+    chain = c.chain
+    g_in = chain.gain_before(i)
+    path = chain.responses_from(i)
+    r_seen = chain.resistance_seen_by(i)
+
+    def thermal(resistance: float) -> NoiseDensity:
+        return NoiseDensity(float(thermal_noise_density(resistance, temperature_k)))
+
+    if isinstance(stage, NonInvertingStage):
+        c.density("e_n", stage.name, "voltage", stage.en, g_in, path)
+        c.density(
+            "i_n+ · R_source",
+            stage.name,
+            "current",
+            stage.in_plus.scaled(r_seen),
+            g_in,
+            path,
+            f"into {r_seen:.4g} Ω",
+        )
+        rp = stage.feedback_parallel_ohm
+        if rp > 0:
+            i_minus = stage.in_minus or stage.in_plus
+            c.density(
+                "i_n− · RF‖RG",
+                stage.name,
+                "current",
+                i_minus.scaled(rp),
+                g_in,
+                path,
+                f"into {rp:.4g} Ω",
+            )
+            c.density("thermal noise of RF‖RG", stage.name, "thermal", thermal(rp), g_in, path)
+    elif isinstance(stage, IntegratedAmplifier):
+        c.density("input noise", stage.name, "voltage", stage.input_noise, g_in, path)
+        if stage.output_noise is not None:
+            c.density(
+                "output noise / G",
+                stage.name,
+                "voltage",
+                stage.output_noise.scaled(1.0 / stage.gain),
+                g_in,
+                path,
+            )
+        if stage.current_noise is not None:
+            c.density(
+                "i_n · R_source",
+                stage.name,
+                "current",
+                stage.current_noise.scaled(r_seen),
+                g_in,
+                path,
+                f"into {r_seen:.4g} Ω",
+            )
+    elif isinstance(stage, RCFilter):
+        c.density(
+            "thermal noise of R",
+            stage.name,
+            "thermal",
+            thermal(stage.resistance_ohm),
+            g_in,
+            path,
+            "filtered by its own pole (kT/C)",
+        )
+    elif isinstance(stage, ActiveFilter):
+        if stage.noise_resistance_ohm > 0:
+            c.density(
+                "thermal noise of equivalent R",
+                stage.name,
+                "thermal",
+                thermal(stage.noise_resistance_ohm),
+                g_in,
+                path,
+            )
+        if stage.en is not None:
+            c.density("e_n", stage.name, "voltage", stage.en, g_in, path)
+
+
+def _reference_contribution(c: _Collector, chain: Chain, band: Band) -> None:
+    ref = chain.reference
+    if ref is None:
+        return
+    name = ref.name
+    if ref.ratiometric:
+        c.items.append(
+            Contribution(
+                "reference noise",
+                name,
+                "reference",
+                0.0,
+                0.0,
+                note="ratiometric: cancels to first order",
+            )
+        )
+        return
+    if ref.noise is None or ref.noise.white == 0:
+        return
+    nb = chain.reference_bandwidth(band.f_low_hz, c.grid_points)
+    sigma_ref = nb.rms(ref.noise.white, ref.noise.corner_hz)
+    # Error at the ADC input: V_in·σ_ref/V_ref, at the largest input the sensor produces.
+    peak_at_adc = chain.sensor.peak_v * chain.total_gain
+    c.at_adc(
+        "reference noise at full input",
+        name,
+        "reference",
+        peak_at_adc * sigma_ref / ref.voltage_v,
+        f"{sigma_ref * 1e6:.3g} µV rms at the reference, scaled by V_in/V_ref at the largest input",
+    )
+
+
+def _adc_contributions(c: _Collector, chain: Chain, band: Band, warnings: list[str]) -> float:
+    """Add the ADC's own noise and quantisation.
+
+    Returns their total at its input at the converter's own output rate (before any
+    post-averaging), V rms: what its ENOB is judged on.
+    """
+    adc = chain.adc
+    noise = adc.noise
+    post = chain.post_variance_factor()
+    post_rms = math.sqrt(post)
+    after = "" if post == 1 else f", × {post_rms:.3g} by the digital post-filter"
+    own: float
+    if isinstance(noise, NoiseAtRate | NoiseTable):
+        rms, how = noise.rms_at(adc.output_rate_hz, adc.gain)
+        own = rms * post_rms
+        c.at_adc("converter noise", adc.name, "adc", own, how + after)
+    elif isinstance(noise, SnrNoise):
+        rms, how = noise.rms(adc.full_scale_range_v, adc.output_rate_hz)
+        own = rms * post_rms
+        c.at_adc("converter noise", adc.name, "adc", own, how + after)
+    elif isinstance(noise, TransitionNoise):
+        own = noise.lsb_rms * adc.lsb_v * post_rms
+        c.at_adc("transition noise", adc.name, "adc", own, f"{noise.lsb_rms:g} LSB rms" + after)
+    elif isinstance(noise, InputNoiseDensity):
+        if chain.digital is None:
+            nb = noise_bandwidth(
+                (), None, band.f_low_hz, f_high_hz=adc.sample_rate_hz / 2, grid_points=c.grid_points
+            )
+        else:
+            nb = c.bandwidth((), adc.name, folded_source=True)
+        own = nb.rms(noise.density.white, noise.density.corner_hz)
+        c.at_adc(
+            "converter noise",
+            adc.name,
+            "adc",
+            own,
+            f"density integrated over {nb.white_hz:.4g} Hz noise bandwidth",
+        )
+    else:  # pragma: no cover - the union is closed
+        raise TypeError(type(noise))
+    total_sq = own**2
+    if not noise.includes_quantisation:
+        q = adc.quantisation_rms_v * post_rms
+        c.at_adc("quantisation", adc.name, "quantisation", q, "q/√12 (Bennett 1948)" + after)
+        total_sq += q**2
+        if post < 1:
+            others = sum(x.adc_rms_v**2 for x in c.items if x.kind != "quantisation")
+            if math.sqrt(others / post) < 0.5 * adc.lsb_v:
+                warnings.append(
+                    "noise at the ADC input is below 0.5 LSB rms per sample: averaging will not "
+                    "reduce quantisation as counted (no dither)"
+                )
+    return math.sqrt(total_sq) / post_rms

@@ -1,0 +1,394 @@
+"""The parts of a measurement chain, as frozen dataclasses that validate themselves.
+
+A chain runs sensor → analog stages (gain stages and filters, in order) → ADC,
+with a voltage reference beside the ADC and digital filtering after it. Every
+field is SI. Field names in errors are the names a design file uses; the design
+file loader prefixes them with the stage's place (``stages[1].en``).
+"""
+
+from __future__ import annotations
+
+import math
+import numbers
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from ..errors import DesignError
+from ..noise.responses import AnalogLowpass
+
+__all__ = [
+    "NoiseDensity",
+    "Sensor",
+    "NonInvertingStage",
+    "IntegratedAmplifier",
+    "RCFilter",
+    "ActiveFilter",
+    "AnalogStage",
+    "Reference",
+]
+
+
+def _is_number(value: object) -> bool:
+    return isinstance(value, numbers.Real) and not isinstance(value, bool | np.bool_)
+
+
+def check_positive(name: str, value: float, what: str) -> float:
+    """Return ``value`` if it is a finite number > 0, else raise DesignError(name, value, what)."""
+    if not _is_number(value):
+        raise DesignError(name, value, what)
+    if not (math.isfinite(value) and value > 0):
+        raise DesignError(name, value, what)
+    return float(value)
+
+
+def check_nonnegative(name: str, value: float, what: str) -> float:
+    """Return ``value`` if it is a finite number ≥ 0, else raise DesignError."""
+    if not _is_number(value):
+        raise DesignError(name, value, what)
+    if not (math.isfinite(value) and value >= 0):
+        raise DesignError(name, value, what)
+    return float(value)
+
+
+def check_optional_positive(name: str, value: float | None, what: str) -> None:
+    if value is not None:
+        check_positive(name, value, what)
+
+
+@dataclass(frozen=True)
+class NoiseDensity:
+    """A 1/f + white noise density: e(f)² = white²·(1 + corner/f).
+
+    Parameters
+    ----------
+    white : float
+        White (flat) density, V/√Hz or A/√Hz (≥ 0).
+    corner_hz : float
+        1/f corner frequency, Hz (≥ 0; 0 for white noise only).
+
+    Examples
+    --------
+    >>> NoiseDensity(4e-9, 10.0)
+    NoiseDensity(white=4e-09, corner_hz=10.0)
+    """
+
+    white: float
+    corner_hz: float = 0.0
+
+    def __post_init__(self) -> None:
+        check_nonnegative("white", self.white, "a noise density ≥ 0")
+        check_nonnegative("corner", self.corner_hz, "a 1/f corner frequency ≥ 0 Hz")
+
+    def scaled(self, factor: float) -> NoiseDensity:
+        """The same shape with the white level multiplied by ``factor``."""
+        return NoiseDensity(self.white * factor, self.corner_hz)
+
+
+@dataclass(frozen=True)
+class Sensor:
+    """The sensor as the chain sees it.
+
+    Parameters
+    ----------
+    span_v : float
+        Full-scale output span, V: the whole range of the output (20 mV for ±10 mV).
+    resistance_ohm : float
+        Output (source) resistance, Ω (> 0); its thermal noise is counted.
+    bipolar : bool
+        The output swings both ways about ``offset_v`` (±span/2) rather than
+        from ``offset_v`` up by the span.
+    noise : NoiseDensity, optional
+        The sensor's own noise beyond the thermal noise of its resistance, V/√Hz.
+    temperature_k : float, optional
+        Temperature of the sensor, K; the chain's temperature when omitted.
+    name : str
+        Label used in the budget.
+    offset_v : float
+        Output at the bottom of the span (unipolar) or at its middle (bipolar), V:
+        an RTD's voltage at the lowest temperature measured, a bridge's zero offset.
+        It moves the input window the ADC must hold and the largest input the
+        reference noise acts on.
+    """
+
+    span_v: float
+    resistance_ohm: float
+    bipolar: bool = False
+    noise: NoiseDensity | None = None
+    temperature_k: float | None = None
+    name: str = "sensor"
+    offset_v: float = 0.0
+
+    def __post_init__(self) -> None:
+        check_positive("span", self.span_v, "a full-scale output span > 0 V")
+        check_positive("resistance", self.resistance_ohm, "a source resistance > 0 ohm")
+        if not (_is_number(self.offset_v) and math.isfinite(self.offset_v)):
+            raise DesignError("offset", self.offset_v, "a finite offset voltage, V")
+        if self.temperature_k is not None:
+            check_positive("temperature", self.temperature_k, "a temperature above 0 K")
+
+    @property
+    def output_range_v(self) -> tuple[float, float]:
+        """Lowest and highest output, V."""
+        if self.bipolar:
+            return self.offset_v - self.span_v / 2, self.offset_v + self.span_v / 2
+        return self.offset_v, self.offset_v + self.span_v
+
+    @property
+    def peak_v(self) -> float:
+        """Largest |output|, V: span/2 when bipolar about zero, span when unipolar from zero."""
+        low, high = self.output_range_v
+        return max(abs(low), abs(high))
+
+
+@dataclass(frozen=True)
+class NonInvertingStage:
+    """An op-amp non-inverting gain stage, gain 1 + RF/RG.
+
+    Parameters
+    ----------
+    name : str
+        Label used in the budget.
+    rf_ohm : float
+        Feedback resistor, Ω (≥ 0; 0 for a follower).
+    rg_ohm : float or None
+        Resistor from the inverting input to ground, Ω (> 0); None for a follower.
+    en : NoiseDensity
+        Input voltage noise, V/√Hz, with its 1/f corner.
+    in_plus : NoiseDensity
+        Current noise of the non-inverting input, A/√Hz.
+    in_minus : NoiseDensity, optional
+        Current noise of the inverting input, A/√Hz; ``in_plus`` when omitted.
+    gbw_hz : float, optional
+        Gain-bandwidth product, Hz; the closed-loop bandwidth GBW/(1 + RF/RG)
+        limits the noise band as a single pole.
+
+    Notes
+    -----
+    Referred to its input (Motchenbacher & Connelly, ch. 2):
+    e_RTI² = e_n² + (i_n+·R_s)² + (i_n−·RF‖RG)² + 4kT·(RF‖RG), the source's own
+    4kTR_s being counted with the source.
+    """
+
+    name: str
+    rf_ohm: float
+    rg_ohm: float | None
+    en: NoiseDensity
+    in_plus: NoiseDensity
+    in_minus: NoiseDensity | None = None
+    gbw_hz: float | None = None
+
+    def __post_init__(self) -> None:
+        check_nonnegative("rf", self.rf_ohm, "a feedback resistance ≥ 0 ohm")
+        if self.rg_ohm is not None:
+            check_positive("rg", self.rg_ohm, "a gain resistance > 0 ohm (omit it for a follower)")
+        elif self.rf_ohm != 0:
+            raise DesignError("rg", None, "a gain resistance > 0 ohm when rf is not 0")
+        check_optional_positive("gbw", self.gbw_hz, "a gain-bandwidth product > 0 Hz")
+
+    @property
+    def gain(self) -> float:
+        return 1.0 if self.rg_ohm is None else 1.0 + self.rf_ohm / self.rg_ohm
+
+    @property
+    def feedback_parallel_ohm(self) -> float:
+        """RF‖RG, Ω: the resistance the inverting input sees."""
+        if self.rg_ohm is None or self.rf_ohm == 0:
+            return 0.0
+        return self.rf_ohm * self.rg_ohm / (self.rf_ohm + self.rg_ohm)
+
+    @property
+    def responses(self) -> tuple[AnalogLowpass, ...]:
+        if self.gbw_hz is None:
+            return ()
+        return (AnalogLowpass("rc", 1, self.gbw_hz / self.gain),)
+
+    output_resistance_ohm = 0.0
+
+
+@dataclass(frozen=True)
+class IntegratedAmplifier:
+    """An instrumentation amplifier, PGA or fully differential driver given by its noise.
+
+    Parameters
+    ----------
+    name : str
+        Label used in the budget.
+    gain : float
+        Voltage gain, V/V (> 0).
+    input_noise : NoiseDensity
+        Input-stage voltage noise, V/√Hz.
+    output_noise : NoiseDensity, optional
+        Output-stage voltage noise, V/√Hz (referred to the input by dividing by the gain).
+    current_noise : NoiseDensity, optional
+        Input current noise, A/√Hz; it flows in the resistance ahead of the input.
+    bandwidth_hz : float, optional
+        −3 dB bandwidth at this gain, Hz (a single pole).
+
+    Notes
+    -----
+    e_RTI² = e_in² + (e_out/G)² + (i_n·R_s)² (the usual two-stage model of an
+    integrated in-amp; Motchenbacher & Connelly, ch. 2).
+    """
+
+    name: str
+    gain: float
+    input_noise: NoiseDensity
+    output_noise: NoiseDensity | None = None
+    current_noise: NoiseDensity | None = None
+    bandwidth_hz: float | None = None
+
+    def __post_init__(self) -> None:
+        check_positive("gain", self.gain, "a gain > 0 V/V")
+        check_optional_positive("bandwidth", self.bandwidth_hz, "a bandwidth > 0 Hz")
+
+    @property
+    def responses(self) -> tuple[AnalogLowpass, ...]:
+        if self.bandwidth_hz is None:
+            return ()
+        return (AnalogLowpass("rc", 1, self.bandwidth_hz),)
+
+    output_resistance_ohm = 0.0
+
+
+@dataclass(frozen=True)
+class RCFilter:
+    """A passive single-pole RC low-pass: series R, shunt C.
+
+    Its resistor's thermal noise is filtered by its own pole: alone it integrates
+    to √(kT/C). The resistance adds to what a following amplifier's current noise sees.
+    """
+
+    name: str
+    resistance_ohm: float
+    capacitance_f: float
+
+    def __post_init__(self) -> None:
+        check_positive("resistance", self.resistance_ohm, "a resistance > 0 ohm")
+        check_positive("capacitance", self.capacitance_f, "a capacitance > 0 F")
+
+    gain = 1.0
+
+    @property
+    def cutoff_hz(self) -> float:
+        return 1.0 / (2.0 * math.pi * self.resistance_ohm * self.capacitance_f)
+
+    @property
+    def responses(self) -> tuple[AnalogLowpass, ...]:
+        return (AnalogLowpass("rc", 1, self.cutoff_hz),)
+
+    @property
+    def output_resistance_ohm(self) -> float:
+        return self.resistance_ohm
+
+
+@dataclass(frozen=True)
+class ActiveFilter:
+    """An active low-pass of a given response and order.
+
+    Parameters
+    ----------
+    name : str
+        Label used in the budget.
+    response : {"rc", "butterworth", "bessel"}
+        Response shape.
+    order : int
+        Order, 1–8.
+    cutoff_hz : float
+        −3 dB frequency, Hz.
+    gain : float
+        Pass-band gain, V/V.
+    noise_resistance_ohm : float
+        Equivalent input resistor whose thermal noise stands for the filter's
+        resistors, Ω (≥ 0).
+    en : NoiseDensity, optional
+        Op-amp voltage noise referred to the filter input, V/√Hz.
+    """
+
+    name: str
+    response: str
+    order: int
+    cutoff_hz: float
+    gain: float = 1.0
+    noise_resistance_ohm: float = 0.0
+    en: NoiseDensity | None = None
+    _lowpass: AnalogLowpass = field(init=False, repr=False, compare=False)
+
+    def __post_init__(self) -> None:
+        check_positive("gain", self.gain, "a pass-band gain > 0 V/V")
+        check_nonnegative("noise_resistance", self.noise_resistance_ohm, "a resistance ≥ 0 ohm")
+        try:
+            lowpass = AnalogLowpass(self.response, self.order, self.cutoff_hz)
+        except DesignError as err:
+            raise DesignError(err.field.removeprefix("filter."), err.value, err.expected) from None
+        object.__setattr__(self, "_lowpass", lowpass)
+
+    @property
+    def responses(self) -> tuple[AnalogLowpass, ...]:
+        return (self._lowpass,)
+
+    output_resistance_ohm = 0.0
+
+
+AnalogStage = NonInvertingStage | IntegratedAmplifier | RCFilter | ActiveFilter
+
+
+@dataclass(frozen=True)
+class Reference:
+    """The ADC's voltage reference.
+
+    Parameters
+    ----------
+    voltage_v : float
+        Reference voltage, V (> 0).
+    noise : NoiseDensity, optional
+        Noise density, V/√Hz, with its 1/f corner. Use :meth:`from_band_rms` for a
+        data-sheet figure in µV rms over a band.
+    filter_cutoff_hz : float, optional
+        A single-pole reference filter, Hz.
+    ratiometric : bool
+        The sensor's excitation comes from this reference, so reference noise
+        cancels to first order and is not counted.
+
+    Notes
+    -----
+    An input V_in at the ADC sees an error V_in·σ_ref/V_ref: zero at zero input and
+    worst at full scale. The budget evaluates it at the largest input the sensor
+    produces.
+    """
+
+    voltage_v: float
+    noise: NoiseDensity | None = None
+    filter_cutoff_hz: float | None = None
+    ratiometric: bool = False
+    name: str = "reference"
+
+    def __post_init__(self) -> None:
+        check_positive("voltage", self.voltage_v, "a reference voltage > 0 V")
+        check_optional_positive("filter_cutoff", self.filter_cutoff_hz, "a cut-off > 0 Hz")
+
+    @staticmethod
+    def density_from_band_rms(
+        rms_v: float, f_low_hz: float, f_high_hz: float, corner_hz: float
+    ) -> NoiseDensity:
+        """The 1/f + white density that gives ``rms_v`` over [f_low, f_high].
+
+        Notes
+        -----
+        Inverts v² = e_w²(f_c ln(f_H/f_L) + f_H − f_L) (see
+        :func:`resplan.noise.physics.integrate_flicker_white`). The corner must be stated:
+        a 0.1–10 Hz figure is mostly 1/f noise and says nothing of the white floor alone.
+        """
+        check_nonnegative("noise", rms_v, "a noise ≥ 0 V rms")
+        check_positive("noise_band_low", f_low_hz, "a band edge > 0 Hz")
+        if not (math.isfinite(f_high_hz) and f_high_hz > f_low_hz):
+            raise DesignError("noise_band_high", f_high_hz, f"a band edge above {f_low_hz:g} Hz")
+        check_nonnegative("corner", corner_hz, "a 1/f corner ≥ 0 Hz")
+        power_bw = corner_hz * math.log(f_high_hz / f_low_hz) + (f_high_hz - f_low_hz)
+        return NoiseDensity(rms_v / math.sqrt(power_bw), corner_hz)
+
+    @property
+    def responses(self) -> tuple[AnalogLowpass, ...]:
+        if self.filter_cutoff_hz is None:
+            return ()
+        return (AnalogLowpass("rc", 1, self.filter_cutoff_hz),)

@@ -1,0 +1,841 @@
+"""Figures of a budget and a plan, drawn with matplotlib's Agg renderer.
+
+matplotlib is imported only when a figure is made, so the command line starts
+quickly. Figures are plain :class:`matplotlib.figure.Figure` objects with an
+Agg canvas (no pyplot, no global state), so they can be made from threads and
+tests without a display.
+
+The curves come from :mod:`resplan.output.spectra` and are for reading, not for
+numbers: every total, share and resolution figure printed beside them comes
+from the forward budget.
+
+Colours are the Okabe–Ito set (M. Okabe and K. Ito, "Color Universal Design —
+how to make figures and presentations that are friendly to colorblind people",
+J*FLY, 2008), chosen to stay apart for the common forms of colour-vision
+deficiency; lines also differ in dash pattern so a grey print still reads.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+import os
+from collections.abc import Mapping, Sequence
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+from ..chain.budget import Budget
+from ..errors import DesignError
+from ..units.formatting import format_bits, format_percent, format_si
+from .atomic import write_bytes_atomic
+
+if TYPE_CHECKING:  # pragma: no cover
+    from matplotlib.figure import Figure
+
+    from ..chain.design import Design
+
+__all__ = [
+    "OKABE_ITO",
+    "KIND_COLOURS",
+    "FIGURE_TITLES",
+    "DEFAULT_DPI",
+    "make_figures",
+    "save_figures",
+    "figure_png",
+    "figure_svg",
+    "caption",
+]
+
+#: The Okabe–Ito colour-blind-safe palette (Okabe & Ito 2008), by its published names.
+OKABE_ITO: dict[str, str] = {
+    "black": "#000000",
+    "orange": "#E69F00",
+    "sky blue": "#56B4E9",
+    "bluish green": "#009E73",
+    "yellow": "#F0E442",
+    "blue": "#0072B2",
+    "vermillion": "#D55E00",
+    "reddish purple": "#CC79A7",
+}
+# Line colours in order of use; yellow last, it is faint on white.
+_LINE_COLOURS = tuple(
+    OKABE_ITO[n]
+    for n in (
+        "blue",
+        "vermillion",
+        "bluish green",
+        "reddish purple",
+        "orange",
+        "sky blue",
+        "yellow",
+    )
+)
+_DASHES = ("-", "--", "-.", ":", (0, (5, 1, 1, 1, 1, 1)), (0, (1, 1)), (0, (8, 2)))
+_GREY = "#6b6b6b"
+_LIGHT = "#d9d9d9"
+
+#: Colour of each kind of contribution in bar charts.
+KIND_COLOURS: dict[str, str] = {
+    "thermal": OKABE_ITO["orange"],
+    "sensor": OKABE_ITO["yellow"],
+    "voltage": OKABE_ITO["blue"],
+    "current": OKABE_ITO["sky blue"],
+    "reference": OKABE_ITO["reddish purple"],
+    "adc": OKABE_ITO["bluish green"],
+    "quantisation": OKABE_ITO["vermillion"],
+}
+
+#: Figures :func:`make_figures` can make, by name, with their titles.
+FIGURE_TITLES: dict[str, str] = {
+    "noise_density": "Noise density of each contributor, referred to the sensor",
+    "cumulative_noise": "Cumulative rms noise against frequency, referred to the sensor",
+    "contributions": "Contributions to the noise power",
+    "resolution_vs_rate": "Noise-free resolution against output data rate",
+    "allocation": "Allocation of the allowed noise",
+}
+
+#: Resolution of saved PNG files and of the PNG figures embedded in a report, dots per inch.
+DEFAULT_DPI = 200
+#: Contributors drawn individually; the rest are drawn as one line or bar.
+_MAX_LINES = 7
+_MAX_BARS = 12
+#: Width of a figure, inches: the text width of an A4 or Letter page with 20 mm margins.
+_WIDTH_IN = 6.5
+
+_STYLE = {
+    "font.family": "DejaVu Sans",
+    "font.size": 7.5,
+    "axes.titlesize": 8.5,
+    "axes.titleweight": "bold",
+    "axes.titlelocation": "left",
+    "axes.labelsize": 7.5,
+    "axes.edgecolor": _GREY,
+    "axes.linewidth": 0.6,
+    "axes.spines.top": False,
+    "axes.spines.right": False,
+    "axes.grid": True,
+    "axes.axisbelow": True,
+    "grid.color": _LIGHT,
+    "grid.linewidth": 0.5,
+    "grid.linestyle": "-",
+    "xtick.color": _GREY,
+    "ytick.color": _GREY,
+    "xtick.labelcolor": "black",
+    "ytick.labelcolor": "black",
+    "xtick.labelsize": 6.5,
+    "ytick.labelsize": 6.5,
+    "xtick.major.width": 0.6,
+    "ytick.major.width": 0.6,
+    "legend.fontsize": 6.3,
+    "legend.frameon": False,
+    "lines.linewidth": 1.2,
+    "svg.hashsalt": "resplan",
+    "svg.fonttype": "path",
+}
+
+# Engineering prefixes for axis scales.
+_PREFIXES = ((1e-15, "f"), (1e-12, "p"), (1e-9, "n"), (1e-6, "µ"), (1e-3, "m"), (1.0, ""))
+
+
+def _scale_for(value: float) -> tuple[float, str]:
+    """A power of 1000 and its prefix so that ``value`` reads between 1 and 1000."""
+    if not (math.isfinite(value) and value > 0):
+        return 1.0, ""
+    chosen = _PREFIXES[0]
+    for factor, prefix in _PREFIXES:
+        if value >= factor:
+            chosen = (factor, prefix)
+    return chosen
+
+
+def _new_axes(
+    height_in: float,
+    *,
+    left: float = 0.72,
+    right: float = 0.2,
+    bottom: float = 0.48,
+    top: float = 0.32,
+):
+    """A figure with one axes placed by fixed margins (inches).
+
+    Fixed margins instead of an automatic layout engine: the figures have a known
+    shape, and a layout engine measures every tick label on every save, which
+    costs more than drawing the figure.
+    """
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
+    from matplotlib.figure import Figure
+
+    fig = Figure(figsize=(_WIDTH_IN, height_in))
+    FigureCanvasAgg(fig)
+    ax = fig.add_axes(
+        (
+            left / _WIDTH_IN,
+            bottom / height_in,
+            (_WIDTH_IN - left - right) / _WIDTH_IN,
+            (height_in - bottom - top) / height_in,
+        )
+    )
+    return fig, ax
+
+
+def _title(fig: Figure, text: str) -> None:
+    """The title at the top left of the figure, clear of axes and legends."""
+    height = fig.get_size_inches()[1]
+    fig.text(
+        0.08 / _WIDTH_IN,
+        1 - 0.08 / height,
+        text,
+        ha="left",
+        va="top",
+        fontsize=_STYLE["axes.titlesize"],
+        fontweight="bold",
+    )
+
+
+def _rate_label(x: float, _pos=None) -> str:
+    """A rate tick label in Hz: plain below 1000, in thousands ("25 k") above."""
+    if x >= 1000:
+        return f"{x / 1000:.3g} k"
+    return f"{x:.3g}"
+
+
+#: Swept points closer than this rate ratio to one already labelled get no label or tick.
+_LABEL_RATIO = 1.35
+#: At most about this many labelled rates across the axis.
+_MAX_LABELS = 10
+
+
+def _spread(rates: Sequence[float], keep: float) -> list[float]:
+    """The rates to label: ``keep`` first, then each far enough from those kept.
+
+    Far enough is a ratio of 1.35, or more when that would put more than about ten
+    labels on the axis.
+    """
+    span = max([*rates, keep]) / min([*rates, keep])
+    step = math.log(max(_LABEL_RATIO, span ** (1 / (_MAX_LABELS - 1)) * (1 - 1e-9)))
+    kept = [keep]
+    for r in sorted(rates, key=lambda r: abs(math.log(r / keep))):
+        if all(abs(math.log(r / k)) >= step for k in kept):
+            kept.append(r)
+    return sorted(kept)
+
+
+def _swept_rate_axis(ax, ticks: Sequence[float]) -> None:
+    """A tick with a plain label at each swept rate given, and no others."""
+    from matplotlib.ticker import FixedLocator, FuncFormatter, NullLocator
+
+    ax.xaxis.set_major_locator(FixedLocator(list(ticks)))
+    ax.xaxis.set_major_formatter(FuncFormatter(_rate_label))
+    ax.xaxis.set_minor_locator(NullLocator())
+
+
+def _text_width_in(fig: Figure, labels: Sequence[str], size_pt: float) -> float:
+    """Width of the widest label, inches."""
+    from matplotlib.font_manager import FontProperties
+
+    renderer = fig.canvas.get_renderer()
+    prop = FontProperties(family=_STYLE["font.family"], size=size_pt)
+    widths = [renderer.get_text_width_height_descent(t, prop, ismath=False)[0] for t in labels]
+    return max(widths, default=0.0) / fig.dpi
+
+
+def _same_rate(a: float, b: float) -> bool:
+    return math.isclose(a, b, rel_tol=1e-9)
+
+
+def _set_caption(fig: Figure, text: str) -> None:
+    fig.resplan_caption = text  # type: ignore[attr-defined]
+
+
+def caption(fig: Figure) -> str:
+    """The caption :func:`make_figures` wrote for a figure ("" if none)."""
+    return getattr(fig, "resplan_caption", "")
+
+
+def _label(c: Any) -> str:
+    return f"{c.name} ({c.stage})"
+
+
+#: Longest legend label before it is shortened, characters.
+_LEGEND_CHARS = 50
+
+
+def _legend_label(c: Any, *, quoted: bool = False) -> str:
+    """The contributor's label, shortened to fit a legend column; the quoted mark is kept."""
+    text = _label(c)
+    suffix = " · quoted rms" if quoted else ""
+    room = _LEGEND_CHARS - len(suffix)
+    if len(text) > room:
+        text = text[: room - 1] + "…"
+    return text + suffix
+
+
+def _density_figure(chain, budget: Budget, spectra) -> Figure:
+    import numpy as np
+
+    f = spectra.centres_hz
+    shown = spectra.contributors[:_MAX_LINES]
+    rest = spectra.contributors[_MAX_LINES:]
+    entries = (
+        len(shown) + (1 if rest else 0) + 1 + (2 if spectra.digital_power_gain is not None else 1)
+    )
+    legend_in = 0.14 * math.ceil(entries / 2) + 0.1
+    height = 3.3 + legend_in
+    fig, ax = _new_axes(height, right=0.62, bottom=0.48 + legend_in, top=0.42)
+    top = float(np.max(spectra.total_density_v_per_rthz))
+    for i, c in enumerate(shown):
+        ax.loglog(
+            f,
+            np.where(c.density_v_per_rthz > 0, c.density_v_per_rthz, np.nan),
+            color=_LINE_COLOURS[i % len(_LINE_COLOURS)],
+            linestyle=_DASHES[i % len(_DASHES)],
+            linewidth=1.0,
+            label=_legend_label(c, quoted=c.quoted),
+        )
+    if rest:
+        power = sum(c.bin_power_v2 for c in rest)
+        ax.loglog(
+            f,
+            np.sqrt(power / spectra.widths_hz),
+            color=_GREY,
+            linewidth=0.8,
+            label=f"{len(rest)} smaller sources together",
+        )
+    ax.loglog(
+        f,
+        spectra.total_density_v_per_rthz,
+        color="black",
+        linewidth=2.6,
+        alpha=0.3,
+        zorder=1.5,
+        label="total",
+    )
+    if top > 0:
+        ax.set_ylim(top * 1e-4, top * 3)
+    ax.set_xlim(spectra.edges_hz[0], spectra.edges_hz[-1])
+    ax.set_xlabel("frequency (Hz)")
+    ax.set_ylabel("noise density at the sensor (V/√Hz)")
+    if spectra.quoted_top_hz < 0.9 * spectra.f_top_hz:
+        ax.axvline(spectra.quoted_top_hz, color=_GREY, linewidth=0.6, linestyle=(0, (2, 2)))
+        ax.annotate(
+            "½ converter output rate",
+            (spectra.quoted_top_hz, 1.0),
+            xycoords=("data", "axes fraction"),
+            xytext=(-2, -8),
+            textcoords="offset points",
+            ha="right",
+            fontsize=6.3,
+            color=_GREY,
+        )
+
+    right = ax.twinx()
+    right.grid(False)
+    right.spines["right"].set_visible(True)
+    with np.errstate(divide="ignore"):
+        right.semilogx(
+            f,
+            10 * np.log10(spectra.analog_power_gain),
+            color=_GREY,
+            linewidth=0.8,
+            linestyle=(0, (6, 2)),
+            label="analog path, dB (right axis)",
+        )
+        if spectra.digital_power_gain is not None:
+            right.semilogx(
+                f,
+                10 * np.log10(spectra.digital_power_gain),
+                color=_GREY,
+                linewidth=0.8,
+                linestyle=(0, (1, 1.5)),
+                label="digital filter, dB (right axis)",
+            )
+    right.set_ylim(-130, 10)
+    right.set_ylabel("filter response (dB)")
+    handles, labels = ax.get_legend_handles_labels()
+    h2, l2 = right.get_legend_handles_labels()
+    fig.legend(
+        handles + h2,
+        labels + l2,
+        loc="lower left",
+        bbox_to_anchor=(0.3 / _WIDTH_IN, 0.04 / height),
+        ncols=2,
+        handlelength=3.0,
+        columnspacing=1.5,
+    )
+    _title(fig, FIGURE_TITLES["noise_density"])
+    _set_caption(
+        fig,
+        "Each contributor's density referred to the sensor through the analog responses "
+        "after its entry point and the digital filter, as the power mean over logarithmic "
+        "bins (the side lobes of the digital filter are narrower than a bin). Figures the "
+        "budget holds as rms values (marked \u2018quoted rms\u2019) are drawn as white noise "
+        "at the converter's output rate r, from f_L to r/2, shaped by the digital stages "
+        "after the converter, carrying that rms. The "
+        "axis is not folded: noise above half the sample rate that aliases into the band "
+        "is counted in the budget, not drawn here.",
+    )
+    return fig
+
+
+def _cumulative_figure(budget: Budget, cumulative, spectra) -> Figure:
+    import numpy as np
+
+    fig, ax = _new_axes(3.1, top=0.42)
+    scale, prefix = _scale_for(max(cumulative.total_rms_v, float(np.max(cumulative.rms_v))))
+    f = np.concatenate([[spectra.edges_hz[0]], cumulative.frequencies_hz])
+    y = np.concatenate([[0.0], cumulative.rms_v]) / scale
+    ax.semilogx(f, y, color=OKABE_ITO["blue"], linewidth=1.4, label="cumulative rms")
+    end_f = float(f[-1])
+    if cumulative.remainder_rms_v > 0:
+        ax.plot(
+            [end_f, end_f],
+            [y[-1], cumulative.total_rms_v / scale],
+            color=OKABE_ITO["blue"],
+            linewidth=1.4,
+            linestyle=(0, (2, 1)),
+            label="folded from above the plotted range: "
+            + format_si(cumulative.remainder_rms_v, "V")
+            + " rms",
+        )
+    ax.plot(
+        [end_f],
+        [cumulative.total_rms_v / scale],
+        marker="o",
+        color="black",
+        markersize=4,
+        linestyle="none",
+        label="budget total: " + format_si(cumulative.total_rms_v, "V") + " rms",
+    )
+    allowed = budget.allowed_rms_v
+    if allowed is not None and allowed > 0:
+        ax.axhline(
+            allowed / scale,
+            color=OKABE_ITO["vermillion"],
+            linewidth=1.0,
+            linestyle="--",
+            label="allowed noise: " + format_si(allowed, "V") + " rms",
+        )
+    ax.set_xlim(spectra.edges_hz[0], end_f * 1.5)
+    ax.set_ylim(bottom=0)
+    ax.set_xlabel("frequency (Hz)")
+    ax.set_ylabel(f"rms noise at the sensor ({prefix}V)")
+    ax.legend(loc="lower right")
+    _title(fig, FIGURE_TITLES["cumulative_noise"])
+    _set_caption(fig, "RMS of the noise below each frequency. " + cumulative.caption)
+    return fig
+
+
+def _bar_axes(labels: Sequence[str], right_in: float):
+    """A figure for one horizontal bar per label, its left margin fitted to the labels.
+
+    Returns the figure, its axes and the bar positions, first label on top.
+    """
+    height = 1.0 + 0.22 * len(labels)
+    fig, ax = _new_axes(height, bottom=0.45)
+    left = _text_width_in(fig, labels, _STYLE["ytick.labelsize"]) + 0.15
+    ax.set_position(
+        (
+            left / _WIDTH_IN,
+            0.45 / height,
+            (_WIDTH_IN - left - right_in) / _WIDTH_IN,
+            (height - 0.92) / height,
+        )
+    )
+    return fig, ax, list(range(len(labels)))[::-1]
+
+
+def _contributions_figure(budget: Budget) -> Figure:
+    items = [c for c in budget.contributions if c.rms_v > 0]
+    shown = items[:_MAX_BARS]
+    rest = items[_MAX_BARS:]
+    labels = [_label(c) for c in shown]
+    shares = [100 * c.share for c in shown]
+    colours = [KIND_COLOURS.get(c.kind, _GREY) for c in shown]
+    texts = [f"{format_percent(c.share)}  ·  {format_si(c.rms_v, 'V')} rms" for c in shown]
+    if rest:
+        share = sum(c.share for c in rest)
+        labels.append(f"{len(rest)} smaller sources")
+        shares.append(100 * share)
+        colours.append(_LIGHT)
+        texts.append(format_percent(share))
+    fig, ax, y = _bar_axes(labels, right_in=0.1)
+    ax.barh(y, shares, color=colours, edgecolor=_GREY, linewidth=0.4, height=0.65)
+    ax.set_yticks(y, labels)
+    ax.set_xlim(0, 118)
+    ax.grid(axis="y", visible=False)
+    for yi, value, text in zip(y, shares, texts, strict=True):
+        inside = value > 60
+        ax.annotate(
+            text,
+            (value, yi),
+            xytext=(-4 if inside else 3, 0),
+            textcoords="offset points",
+            va="center",
+            ha="right" if inside else "left",
+            color="white" if inside else "black",
+            fontsize=6.3,
+        )
+    ax.set_xlabel("share of the total noise power (%)")
+    kinds = sorted({c.kind for c in shown}, key=list(KIND_COLOURS).index)
+    from matplotlib.patches import Patch
+
+    ax.legend(
+        [Patch(facecolor=KIND_COLOURS[k], edgecolor=_GREY, linewidth=0.4) for k in kinds],
+        kinds,
+        loc="lower right",
+        bbox_to_anchor=(1.0, 1.0),
+        ncols=len(kinds),
+        handlelength=1.2,
+        columnspacing=1.0,
+        borderaxespad=0.2,
+    )
+    _title(fig, FIGURE_TITLES["contributions"])
+    _set_caption(
+        fig,
+        "Share of the total noise power, largest first, with each contribution's rms "
+        "referred to the sensor. Uncorrelated sources add in power.",
+    )
+    return fig
+
+
+#: How a data-rate sweep took the converter's noise at each rate, for the caption.
+_CARRY_TEXT = {
+    "table": "the converter's noise is the row of its noise table at each rate",
+    "white": (
+        "the converter's noise is its quoted figure carried as white noise, "
+        "√(ODR/ODR_quoted), as the design allows"
+    ),
+    "density": (
+        "the converter's noise is its input density integrated over the filters at each rate"
+    ),
+}
+
+
+def _resolution_figure(budget: Budget, sweep) -> Figure:
+    import numpy as np
+
+    from .spectra import SWEEP_DATA_RATE
+
+    fig, ax = _new_axes(3.3, top=0.42)
+    colour = OKABE_ITO["blue"]
+    rates = sweep.output_rates_hz
+    bits = sweep.noise_free_bits
+    passes = sweep.passes_band
+    by_rate = sweep.swept == SWEEP_DATA_RATE
+    k = format(sweep.k_pp, ".3g")
+    coverage = format_percent(sweep.coverage)
+    # Solid where both ends pass the signal band, dotted where either does not.
+    for i in range(len(rates) - 1):
+        both = bool(passes[i] and passes[i + 1])
+        ax.semilogx(
+            rates[i : i + 2],
+            bits[i : i + 2],
+            color=colour,
+            linewidth=1.2 if both else 0.9,
+            linestyle="-" if both else (0, (1.5, 1.5)),
+            zorder=2,
+        )
+    ax.plot(
+        rates[passes],
+        bits[passes],
+        marker="o",
+        markersize=4,
+        color=colour,
+        linestyle="none",
+        zorder=3,
+        label=f"noise-free bits over the sensor span ({coverage} coverage, k_pp = {k})",
+    )
+    if not np.all(passes):
+        ax.plot(
+            rates[~passes],
+            bits[~passes],
+            marker="o",
+            markersize=4,
+            markerfacecolor="white",
+            markeredgecolor=colour,
+            markeredgewidth=1.0,
+            linestyle="none",
+            zorder=3,
+            label="output rate below 2 × the signal band top: the band is not passed",
+        )
+    required = sweep.required_noise_free_bits
+    span = float(np.ptp(np.append(bits, required if required is not None else bits[:1])))
+    labelled = _spread([float(r) for r in rates], budget.output_rate_hz) if len(rates) else []
+    for p in sweep.points:
+        own = p is sweep.current
+        if not own and not any(_same_rate(p.output_rate_hz, r) for r in labelled):
+            continue
+        # A label just under the required line goes below its point, clear of the line.
+        below = required is not None and 0 < required - p.noise_free_bits < 0.12 * span
+        ax.annotate(
+            f"{p.noise_free_bits:.2f}" if by_rate else f"N={p.averaging_count}",
+            (p.output_rate_hz, p.noise_free_bits),
+            xytext=(0, (-7 if not own else -9) if below else (6 if not own else 8)),
+            textcoords="offset points",
+            ha="center",
+            va="top" if below else "bottom",
+            fontsize=5.8,
+            color=_GREY,
+        )
+    ax.plot(
+        [budget.output_rate_hz],
+        [budget.noise_free_bits],
+        marker="D",
+        markersize=8,
+        markerfacecolor="none",
+        markeredgecolor="black",
+        markeredgewidth=1.0,
+        linestyle="none",
+        zorder=4,
+        label=(
+            f"this design: {format_bits(budget.noise_free_bits)} at "
+            f"{format_si(budget.output_rate_hz, 'Hz')}"
+        ),
+    )
+    if sweep.required_noise_free_bits is not None:
+        ax.axhline(
+            sweep.required_noise_free_bits,
+            color=OKABE_ITO["vermillion"],
+            linestyle="--",
+            linewidth=1.0,
+            label="required: "
+            + format_bits(sweep.required_noise_free_bits)
+            + " (after the interference allowance)",
+        )
+    if len(rates):
+        low, high = float(min(rates)) / 1.6, float(max(rates)) * 1.6
+        ax.set_xlim(low, high)
+        _swept_rate_axis(ax, labelled)
+        top = sweep.band_top_hz
+        if top is not None and low < 2 * top < high:
+            ax.axvspan(low, 2 * top, color=_LIGHT, alpha=0.45, linewidth=0, zorder=0.5)
+            ax.annotate(
+                "2 × signal band top",
+                (2 * top, 0.0),
+                xycoords=("data", "axes fraction"),
+                xytext=(-3, 3),
+                textcoords="offset points",
+                ha="right",
+                va="bottom",
+                fontsize=6.3,
+                color=_GREY,
+            )
+    ax.margins(y=0.2)
+    ax.set_xlabel("output data rate (Hz)")
+    ax.set_ylabel("noise-free resolution over the span (bits)")
+    ax.legend(loc="best")
+    _title(fig, FIGURE_TITLES["resolution_vs_rate"])
+    _set_caption(fig, _resolution_caption(sweep))
+    return fig
+
+
+def _resolution_caption(sweep) -> str:
+    from .spectra import SWEEP_DATA_RATE
+
+    k = format(sweep.k_pp, ".3g")
+    if sweep.swept == SWEEP_DATA_RATE:
+        text = (
+            "Each point is a full forward budget of the chain at one of the converter's "
+            "output data rates, not a scaled estimate: "
+            + _CARRY_TEXT.get(sweep.noise_carry, "the converter's noise is taken at each rate")
+            + f"; its sinc{sweep.decimation_order} decimation ratio is "
+            f"{format_si(sweep.sample_rate_hz, 'Hz')}/ODR"
+            + (
+                "; the digital stages after it run at the new rate (an average keeps its "
+                "length, a band limit its cut-off)."
+                if sweep.post_stage_count
+                else "."
+            )
+        )
+    else:
+        text = (
+            "Each point is a full forward budget of the chain, not a scaled estimate, "
+            "with N output samples averaged (a first-order sinc after the converter)"
+            + (f": {sweep.note}" if sweep.note else "")
+            + ". White noise falls as 1/√N; 1/f noise does not, so the curve flattens."
+        )
+    text += (
+        f" Noise-free resolution over the sensor span at {format_percent(sweep.coverage)} "
+        f"coverage (k_pp = {k}); the diamond marks this design."
+    )
+    if sweep.band_top_hz is not None and not all(p.passes_band for p in sweep.points):
+        text += (
+            " Hollow markers and dotted lines: output rates below twice the top of the "
+            f"signal band ({format_si(2 * sweep.band_top_hz, 'Hz')}), which no longer pass "
+            "the signal band."
+        )
+    if sweep.required_noise_free_bits is not None:
+        text += " The required line is after the interference allowance."
+    reasons: dict[str, list[str]] = {}
+    for value, why in sweep.skipped:
+        shown = format_si(value, "Hz") if sweep.swept == SWEEP_DATA_RATE else f"N={value}"
+        reasons.setdefault(why, []).append(shown)
+    for why, values in reasons.items():
+        text += " Left out (" + why + "): " + ", ".join(values) + "."
+    return text
+
+
+def _allocation_figure(plan) -> Figure | None:
+    fixed = tuple(getattr(plan, "fixed", ()) or ())
+    allocations = tuple(getattr(plan, "allocations", ()) or ())
+    rows = [(f"{_label(c)} — fixed", c.rms_v, _GREY) for c in fixed if c.rms_v > 0]
+    rows += [
+        (f"{a.part} — allocated", a.rms_v, OKABE_ITO["blue"]) for a in allocations if a.rms_v > 0
+    ]
+    if not rows:
+        return None
+    rows = rows[: _MAX_BARS + 4]
+    scale, prefix = _scale_for(max(r[1] for r in rows))
+    labels = [r[0] for r in rows]
+    fig, ax, y = _bar_axes(labels, right_in=0.2)
+    ax.barh(
+        y, [r[1] / scale for r in rows], color=[r[2] for r in rows], height=0.65, edgecolor=_GREY
+    )
+    ax.set_yticks(y, [r[0] for r in rows])
+    ax.grid(axis="y", visible=False)
+    allowed = getattr(plan, "allowed_noise_rms_v", None)
+    if allowed:
+        ax.axvline(
+            allowed / scale,
+            color=OKABE_ITO["vermillion"],
+            linestyle="--",
+            linewidth=1.0,
+            label="allowed noise in total: " + format_si(allowed, "V") + " rms",
+        )
+        ax.legend(loc="lower right")
+    ax.set_xlabel(f"rms noise at the sensor ({prefix}V)")
+    _title(fig, FIGURE_TITLES["allocation"])
+    _set_caption(
+        fig,
+        "Noise fixed by given parts and the rms allocated to each open part, referred to "
+        "the sensor. They add in power, not linearly, to the allowed total.",
+    )
+    return fig
+
+
+def make_figures(
+    design: Design,
+    budget: Budget | None,
+    plan: Any = None,
+    *,
+    sweep_counts: tuple[int, ...] | None = None,
+    sweep_rates: tuple[float, ...] | None = None,
+) -> dict[str, Figure]:
+    """Draw the figures of a design's budget (and plan).
+
+    Parameters
+    ----------
+    design : Design
+        The design; its chain is needed for the density curves when ``budget`` is given.
+    budget : Budget or None
+        Its forward budget (None when parts are open).
+    plan : resplan.plan.allocation.Plan, optional
+        The backward allocation; adds the ``allocation`` figure.
+    sweep_counts : tuple of int, optional
+        Averaging counts for the resolution figure when it varies the post-average
+        (see :func:`resplan.output.spectra.resolution_sweep`).
+    sweep_rates : tuple of float, optional
+        Converter data rates, Hz, for the resolution figure when it varies the
+        data rate (the default: each row of a noise table, or powers of two times
+        the design's rate).
+
+    Returns
+    -------
+    dict
+        Figure name (keys of :data:`FIGURE_TITLES`) to matplotlib Figure; each has a
+        caption (:func:`caption`). Figures of the budget are made only when it is given.
+    """
+    import matplotlib
+
+    from .spectra import cumulative_noise, noise_spectra, resolution_sweep
+
+    figs: dict[str, Figure] = {}
+    with matplotlib.rc_context(_STYLE):
+        if budget is not None:
+            chain = design.chain()
+            spectra = noise_spectra(chain, budget)
+            figs["noise_density"] = _density_figure(chain, budget, spectra)
+            figs["cumulative_noise"] = _cumulative_figure(
+                budget, cumulative_noise(spectra, budget), spectra
+            )
+            figs["contributions"] = _contributions_figure(budget)
+            sweep = resolution_sweep(
+                chain,
+                design.band,
+                budget.requirement,
+                counts=sweep_counts,
+                rates=sweep_rates,
+                coverage=budget.coverage,
+            )
+            figs["resolution_vs_rate"] = _resolution_figure(budget, sweep)
+        if plan is not None and getattr(plan, "allocations", ()):
+            fig = _allocation_figure(plan)
+            if fig is not None:
+                figs["allocation"] = fig
+    return figs
+
+
+def figure_png(fig: Figure, dpi: int = DEFAULT_DPI) -> bytes:
+    """The figure as PNG bytes at ``dpi`` dots per inch."""
+    import matplotlib
+
+    buffer = io.BytesIO()
+    with matplotlib.rc_context(_STYLE):
+        fig.savefig(buffer, format="png", dpi=dpi, metadata={"Software": None})
+    return buffer.getvalue()
+
+
+def figure_svg(fig: Figure) -> bytes:
+    """The figure as SVG (text drawn as paths, no date stamp)."""
+    import matplotlib
+
+    buffer = io.BytesIO()
+    with matplotlib.rc_context(_STYLE):
+        fig.savefig(buffer, format="svg", metadata={"Date": None})
+    return buffer.getvalue()
+
+
+def save_figures(
+    figs: Mapping[str, Figure],
+    directory: str | os.PathLike,
+    *,
+    dpi: int = DEFAULT_DPI,
+    pngs: Mapping[str, bytes] | None = None,
+) -> list[Path]:
+    """Write each figure as ``NAME.png`` (at ``dpi``) and ``NAME.svg`` into a folder.
+
+    The folder is created if needed. Each file is written to a temporary file
+    beside it and renamed, so no file is ever left half-written.
+
+    Parameters
+    ----------
+    figs : mapping of str to Figure
+        As returned by :func:`make_figures`.
+    directory : path
+        Folder for the files.
+    dpi : int
+        Resolution of the PNG files, dots per inch (≥ 50; 200 by default).
+    pngs : mapping of str to bytes, optional
+        PNG files already rendered at ``dpi`` (by :func:`figure_png`), written as they
+        are instead of drawing the figure again.
+
+    Returns
+    -------
+    list of Path
+        The files written.
+    """
+    if isinstance(dpi, bool) or not isinstance(dpi, int) or dpi < 50:
+        raise DesignError("dpi", dpi, "a whole number of dots per inch ≥ 50")
+    folder = Path(directory)
+    if folder.exists() and not folder.is_dir():
+        raise DesignError("figures", str(folder), "a folder (a file of that name exists)")
+    folder.mkdir(parents=True, exist_ok=True)
+    written: list[Path] = []
+    for name, fig in figs.items():
+        png = folder / f"{name}.png"
+        data = pngs.get(name) if pngs is not None else None
+        write_bytes_atomic(png, data if data is not None else figure_png(fig, dpi))
+        svg = folder / f"{name}.svg"
+        write_bytes_atomic(svg, figure_svg(fig))
+        written += [png, svg]
+    return written

@@ -1,0 +1,189 @@
+"""The backward plan as text and as plain data: what ``resplan plan`` prints.
+
+:func:`format_plan` writes the allocation table and the per-part requirement
+table, with a unit on every number and the conditions it holds at;
+:func:`plan_data` gives the same as plain data with stable keys for ``--json``.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+from ..chain.design import Design
+from ..plan.allocation import PartRequirement, Plan
+from ..units.formatting import (
+    ascii_units,
+    format_bits,
+    format_counts,
+    format_db,
+    format_percent,
+    format_si,
+    format_temperature,
+)
+from .budget_text import _table, json_safe
+
+__all__ = ["format_plan", "format_limit", "plan_data", "plan_verdict"]
+
+_BOUND = {"max": "≤ ", "min": "≥ ", "info": ""}
+
+
+def format_limit(row: PartRequirement) -> str:
+    """A requirement's value with its bound and unit, such as ``"≤ 18.7 nV/√Hz"``.
+
+    Examples
+    --------
+    >>> format_limit(PartRequirement("amp", "stages[0]", "e_n", 18.7e-9, "V/√Hz", "max"))
+    '≤ 18.7 nV/√Hz'
+    """
+    value, unit = row.value, row.unit
+    bound = _BOUND.get(row.bound, "")
+    if math.isinf(value):
+        return "none reaches it" if row.bound == "min" else "no limit"
+    if unit == "dB":
+        text = format_db(value)
+    elif unit == "bits":
+        text = format_bits(value)
+    elif unit in ("ppm", "LSB", "V/V"):
+        text = f"{value:.4g} {unit}"
+    elif unit == "":
+        text = f"{value:.0f}" if float(value).is_integer() else f"{value:.3g}"
+    else:
+        text = format_si(value, unit)
+    if unit in ("V",) and "rms" not in row.quantity:
+        text += " rms"
+    return bound + text
+
+
+def plan_verdict(plan: Plan) -> str:
+    """The one-line verdict of a plan."""
+    if plan.feasible and not plan.allocations:
+        return (
+            "FEASIBLE: nothing is open; the given parts leave "
+            f"{format_si(plan.remaining_rms_v, 'V')} rms unused "
+            "(run `resplan check` for the margin)"
+        )
+    if plan.feasible:
+        return (
+            "FEASIBLE: a chain whose open parts meet these limits meets the requirement "
+            "(with zero margin at the limits)"
+        )
+    return "INFEASIBLE: the requirement cannot be met as the design stands (see the levers)"
+
+
+def format_plan(plan: Plan, design: Design, *, ascii_only: bool = False) -> str:
+    """The plan as an aligned text report, ending with the verdict line."""
+    req = design.requirement
+    out: list[str] = []
+    meta = design.meta
+    title = meta.title + (f", revision {meta.revision}" if meta.revision else "")
+    out.append(title)
+    if design.source:
+        out.append(f"design: {design.source} (sha256 {design.sha256[:12]}…)")
+    out.append("")
+    out.append("Conditions")
+    out += _table(
+        [
+            [
+                "coverage",
+                f"{format_percent(plan.coverage)} (k_pp = {plan.k_pp:.2f}: "
+                f"peak-to-peak = {plan.k_pp:.2f} × rms)",
+            ],
+            ["band", f"f_low {format_si(plan.f_low_hz, 'Hz')} (bounds 1/f noise)"],
+            [
+                "output data rate",
+                "n/a" if plan.output_rate_hz is None else format_si(plan.output_rate_hz, "Hz"),
+            ],
+            ["temperature", format_temperature(plan.temperature_k)],
+        ],
+        set(),
+    )
+    out.append("")
+    out.append("Budget (referred to the sensor)")
+    needs = (
+        f"{format_counts(req.noise_free_counts)} noise-free counts"
+        if req.noise_free_counts is not None
+        else f"{format_db(req.dynamic_range_db)} dynamic range"
+    )
+    rows = [
+        ["stated as", req.description or needs],
+        ["allowed total", f"{format_si(plan.allowed_total_rms_v, 'V')} rms ({needs})"],
+    ]
+    if plan.interference_rms_v:
+        rows.append(["interference allowance", f"{format_si(plan.interference_rms_v, 'V')} rms"])
+    rows += [
+        ["allowed noise", f"{format_si(plan.allowed_noise_rms_v, 'V')} rms"],
+        ["fixed parts", f"{format_si(plan.fixed_rms_v, 'V')} rms"],
+        ["left for open parts", f"{format_si(plan.remaining_rms_v, 'V')} rms"],
+    ]
+    out += _table(rows, set())
+    out.append("")
+    if plan.fixed:
+        out.append("Fixed contributions")
+        allowed_sq = plan.allowed_noise_rms_v**2
+        rows = [["contributor", "stage", "kind", "at sensor", "of allowed power"]]
+        for c in plan.fixed:
+            share = c.rms_v**2 / allowed_sq if allowed_sq else math.inf
+            rows.append(
+                [c.name, c.stage, c.kind, f"{format_si(c.rms_v, 'V')} rms", format_percent(share)]
+            )
+        out += _table(rows, {3, 4})
+        out.append("")
+    if plan.allocations:
+        out.append("Allocation to the open parts")
+        rows = [["part", "place", "weight", "share", "at sensor", "at ADC input"]]
+        for a in plan.allocations:
+            rows.append(
+                [
+                    a.part,
+                    a.field_path,
+                    f"{a.weight:g}",
+                    format_percent(a.share),
+                    f"{format_si(a.rms_v, 'V')} rms",
+                    f"{format_si(a.adc_rms_v, 'V')} rms",
+                ]
+            )
+        out += _table(rows, {2, 3, 4, 5})
+        out.append("")
+    if plan.requirements:
+        out.append("What each part must meet")
+        rows = [["part", "figure", "limit"]]
+        conditions = []
+        for r in plan.requirements:
+            rows.append([r.part, r.quantity, format_limit(r)])
+            conditions.append(r.condition)
+        lines = _table(rows, {2})
+        out.append(lines[0])
+        for line, condition in zip(lines[1:], conditions, strict=True):
+            out.append(line)
+            if condition:
+                out.append("      " + condition)
+        out.append("")
+    if plan.reasons:
+        out.append("Why it cannot be met")
+        out += [f"  {r}" for r in plan.reasons]
+        out.append("")
+    if plan.levers:
+        out.append("Levers (each alone would make it feasible)")
+        out += [f"  - {lever.name}: {lever.description}" for lever in plan.levers]
+        out.append("")
+    if plan.assumptions:
+        out.append("Assumptions")
+        out += [f"  - {a}" for a in plan.assumptions]
+        out.append("")
+    out.append(plan_verdict(plan))
+    text = "\n".join(out)
+    return ascii_units(text) if ascii_only else text
+
+
+def plan_data(plan: Plan, design: Design) -> dict[str, Any]:
+    """The plan as plain data with stable keys (SI units), JSON-safe."""
+    data = plan.to_dict()
+    data["verdict"] = plan_verdict(plan)
+    data["design"] = {
+        "source": design.source,
+        "sha256": design.sha256,
+        "meta": design.meta.__dict__.copy(),
+        "notes": list(design.notes),
+    }
+    return json_safe(data)

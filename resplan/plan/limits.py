@@ -1,0 +1,506 @@
+"""Turning a part's share of the noise into the figures its data sheet quotes.
+
+Every conversion goes through the same noise bandwidths the forward budget uses
+(aliases included), so a part exactly at its limit uses exactly its share.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+from ..chain.alias import allowed_residue, path_attenuation_db
+from ..chain.budget import Budget
+from ..chain.converter import NoiseAtRate, SnrNoise, TransitionNoise
+from ..chain.design import Design, OpenPart
+from ..chain.resolution import sine_rms
+from ..chain.signal_chain import Chain
+from ..chain.stages import ActiveFilter, IntegratedAmplifier, NoiseDensity, NonInvertingStage
+from ..noise.bandwidth import noise_bandwidth
+from ..noise.physics import BOLTZMANN_J_PER_K, enob_from_sinad, noise_rms_to_snr
+from ..noise.responses import AnalogLowpass
+from ..units.formatting import format_si
+from .provisional import Slot, signal_band_top
+
+__all__ = ["PartRequirement", "part_limits", "gain_limits", "given_adc_limits", "first_gain_index"]
+
+
+def _v(value: float) -> str:
+    return format_si(value, "V")
+
+
+def _ohm(value: float) -> str:
+    return format_si(value, "Ω")
+
+
+@dataclass(frozen=True)
+class PartRequirement:
+    """A figure a part must meet, in the form data sheets quote.
+
+    ``value`` is SI in ``unit`` (format it with :func:`resplan.units.formatting.format_si`);
+    ``bound`` says whether it is a maximum, a minimum or information.
+    """
+
+    part: str
+    field_path: str
+    quantity: str
+    value: float
+    unit: str
+    bound: str
+    condition: str = ""
+    formula: str = ""
+
+
+def _path_bandwidth(chain: Chain, index: int, band, grid_points: int):
+    return noise_bandwidth(
+        chain.responses_from(index), chain.digital, band.f_low_hz, grid_points=grid_points
+    )
+
+
+def _band_text(nb) -> str:
+    return f"white noise bandwidth {nb.white_hz:.4g} Hz"
+
+
+def _amplifier_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_points):
+    part = slot.part
+    i = slot.index
+    stage = chain.stages[i]
+    g_in = chain.gain_before(i)
+    nb = _path_bandwidth(chain, i, band, grid_points)
+    at_input = var * g_in**2
+    fc_e = part.known.get("en_corner_hz", 0.0)
+    fc_i = part.known.get("in_corner_hz", 0.0)
+    en_max = math.sqrt(at_input / (nb.white_hz + fc_e * nb.flicker))
+    r_seen = chain.resistance_seen_by(i)
+    e_for_current = math.sqrt(at_input / (nb.white_hz + fc_i * nb.flicker))
+    in_max = e_for_current / r_seen if r_seen > 0 else math.inf
+    role = "front end" if i == first_gain_index(chain) else "driver"
+    corner_text = f"1/f corner {fc_e:g} Hz" + (
+        "" if "en_corner_hz" in part.known else " (assumed: state it)"
+    )
+    rows = [
+        PartRequirement(
+            part.name,
+            part.field_path,
+            "white voltage noise e_n (current noise negligible)",
+            en_max,
+            "V/√Hz",
+            "max",
+            f"{corner_text}; {_band_text(nb)}",
+            "e_n = √(σ²·G_in² / (ENBW + f_c·K_1/f))",
+        ),
+    ]
+    if r_seen > 0:
+        rows += [
+            PartRequirement(
+                part.name,
+                part.field_path,
+                f"current noise i_n into {_ohm(r_seen)} (voltage noise negligible)",
+                in_max,
+                "A/√Hz",
+                "max",
+                f"1/f corner {fc_i:g} Hz"
+                + ("" if "in_corner_hz" in part.known else " (assumed: state it)")
+                + f"; {_band_text(nb)}",
+                "i_n = e_allowed / R_source",
+            ),
+            PartRequirement(
+                part.name,
+                part.field_path,
+                "e_n and i_n with half the share each",
+                en_max / math.sqrt(2),
+                "V/√Hz",
+                "max",
+                f"with i_n ≤ {format_si(in_max / math.sqrt(2), 'A/√Hz')}; "
+                f"optimum source resistance e_n/i_n = {_ohm(r_seen)}",
+                "each term σ²/2",
+            ),
+        ]
+    rows += [
+        PartRequirement(
+            part.name,
+            part.field_path,
+            "output noise density (as a " + role + ")",
+            en_max * stage.gain,
+            "V/√Hz",
+            "max",
+            f"at its output, gain {stage.gain:.4g} V/V; {_band_text(nb)}",
+            "e_out = e_n · G",
+        ),
+    ]
+    limit = {"en": NoiseDensity(en_max, fc_e), "gain": stage.gain, "bandwidth_hz": None}
+    if stage.responses:
+        limit["bandwidth_hz"] = stage.responses[0].cutoff_hz
+    return rows, limit
+
+
+def first_gain_index(chain: Chain) -> int | None:
+    for i, stage in enumerate(chain.stages):
+        if isinstance(stage, IntegratedAmplifier | NonInvertingStage):
+            return i
+    return None
+
+
+def _filter_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_points):
+    part = slot.part
+    i = slot.index
+    stage: ActiveFilter = chain.stages[i]
+    g_in = chain.gain_before(i)
+    nb = _path_bandwidth(chain, i, band, grid_points)
+    t = chain.temperature_k
+    r_max = var * g_in**2 / (4 * BOLTZMANN_J_PER_K * t * nb.white_hz)
+    rows = [
+        PartRequirement(
+            part.name,
+            part.field_path,
+            "equivalent noise resistance of the filter",
+            r_max,
+            "Ω",
+            "max",
+            f"thermal noise 4kTR at {t:.2f} K; {_band_text(nb)}",
+            "R = σ²·G_in² / (4kT·ENBW)",
+        )
+    ]
+    rows.extend(_alias_rows(part, stage, chain, design))
+    limit = {"noise_resistance_ohm": r_max, "filter": stage}
+    return rows, limit
+
+
+def _alias_rows(part: OpenPart, stage: ActiveFilter, chain: Chain, design: Design) -> list:
+    req = design.requirement
+    fs = chain.adc.sample_rate_hz
+    top = signal_band_top(design)
+    if design.alias_interferer is not None:
+        f_i, amplitude = design.alias_interferer
+        source = f"stated interferer {_v(amplitude)} rms at {f_i:g} Hz (at the sensor)"
+    else:
+        f_i, amplitude = fs - top, sine_rms(req.span_v)
+        source = (
+            f"a full-scale sine at the first alias band, f_s − f_B = {f_i:g} Hz "
+            "(no interferer stated)"
+        )
+    residue, residue_text = allowed_residue(req)
+    needed_db = 20 * math.log10(amplitude / residue) if amplitude > residue else 0.0
+    helped_db = sum(path_attenuation_db(chain, f_i, skip=stage))
+    filter_db = max(0.0, needed_db - helped_db)
+    rows = [
+        PartRequirement(
+            part.name,
+            part.field_path,
+            f"attenuation at {f_i:g} Hz",
+            filter_db,
+            "dB",
+            "min",
+            f"{source}; residue ≤ {_v(residue)} rms ({residue_text}); digital filter and "
+            f"other stages give {helped_db:.1f} dB of the {needed_db:.1f} dB",
+            "A = 20·log10(A_i/residue) − A_digital − A_other",
+        )
+    ]
+    if f_i <= 0:
+        return rows
+    response = stage._lowpass.kind
+    known_order = part.known.get("order")
+    known_cutoff = part.known.get("cutoff_hz")
+    cutoff = known_cutoff if known_cutoff is not None else top
+    min_order = None
+    for n in range(1, 9):
+        if response == "rc" and n > 1:
+            break
+        if float(AnalogLowpass(response, n, cutoff).attenuation_db(f_i)) >= filter_db:
+            min_order = n
+            break
+    rows.append(
+        PartRequirement(
+            part.name,
+            part.field_path,
+            f"{response} order for a cut-off of {cutoff:g} Hz",
+            float(min_order) if min_order is not None else math.inf,
+            "",
+            "min",
+            "no order up to 8 reaches it: raise the sample rate or lower the cut-off"
+            if min_order is None
+            else ("cut-off as stated" if known_cutoff is not None else "cut-off at the band top"),
+            "A(f) = 10·log10(1 + (f/f_c)^(2n)) for Butterworth; numerical otherwise",
+        )
+    )
+    order = int(known_order) if known_order is not None else (min_order or 8)
+    if response == "rc":
+        order = 1
+    fc_max = _max_cutoff(response, order, f_i, filter_db)
+    rows.append(
+        PartRequirement(
+            part.name,
+            part.field_path,
+            f"cut-off of an order-{order} {response} filter",
+            fc_max,
+            "Hz",
+            "max",
+            "inside the signal band: pass-band droop"
+            if fc_max < top
+            else f"the signal band top is {top:g} Hz",
+            "f_c = f / (10^(A/10) − 1)^(1/2n) for Butterworth",
+        )
+    )
+    return rows
+
+
+def _max_cutoff(response: str, order: int, f_i: float, needed_db: float) -> float:
+    if needed_db <= 0:
+        return math.inf
+    if response in ("rc", "butterworth"):
+        return f_i / (10 ** (needed_db / 10) - 1) ** (1 / (2 * order))
+    lo, hi = f_i * 1e-9, f_i
+    for _ in range(200):
+        mid = math.sqrt(lo * hi)
+        if float(AnalogLowpass(response, order, mid).attenuation_db(f_i)) >= needed_db:
+            lo = mid
+        else:
+            hi = mid
+    return lo
+
+
+def _reference_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_points):
+    part = slot.part
+    ref = chain.reference
+    peak = chain.sensor.peak_v
+    sigma_ref = math.sqrt(var) * ref.voltage_v / peak
+    nb = chain.reference_bandwidth(band.f_low_hz, grid_points)
+    fc = part.known.get("noise_corner_hz", 0.0)
+    density = sigma_ref / math.sqrt(nb.white_hz + fc * nb.flicker)
+    rms_01_10 = density * math.sqrt(fc * math.log(100.0) + 9.9)
+    corner_text = f"1/f corner {fc:g} Hz" + (
+        "" if "noise_corner_hz" in part.known else " (assumed: state it)"
+    )
+    rows = [
+        PartRequirement(
+            part.name,
+            part.field_path,
+            "noise in the chain's band",
+            sigma_ref,
+            "V",
+            "max",
+            f"evaluated at the largest input ({_v(peak)} at the sensor); {_band_text(nb)}",
+            "σ_ref = σ_share · V_ref / V_in,max",
+        ),
+        PartRequirement(
+            part.name,
+            part.field_path,
+            "noise relative to V_ref",
+            sigma_ref / ref.voltage_v * 1e6,
+            "ppm",
+            "max",
+            f"of {ref.voltage_v:g} V, rms",
+            "σ_ref / V_ref",
+        ),
+        PartRequirement(
+            part.name,
+            part.field_path,
+            "white noise density",
+            density,
+            "V/√Hz",
+            "max",
+            corner_text,
+            "e = σ_ref / √(ENBW + f_c·K_1/f)",
+        ),
+        PartRequirement(
+            part.name,
+            part.field_path,
+            "equivalent rms noise 0.1–10 Hz",
+            rms_01_10,
+            "V",
+            "max",
+            f"for that density and corner (peak-to-peak ≈ 6.6× rms at 99.9 %); {corner_text}",
+            "e·√(f_c·ln 100 + 9.9 Hz)",
+        ),
+    ]
+    return rows, {"noise": NoiseDensity(density, fc)}
+
+
+def _adc_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_points):
+    part = slot.part
+    adc = chain.adc
+    post = chain.post_variance_factor()
+    at_input = math.sqrt(var) * chain.total_gain
+    at_rate = at_input / math.sqrt(post)
+    rate = adc.output_rate_hz
+    snr = float(noise_rms_to_snr(at_rate, adc.full_scale_range_v)) if at_rate > 0 else math.inf
+    after = (
+        "" if post == 1 else f" (before the post-filter, which divides its power by {1 / post:.4g})"
+    )
+    rows = [
+        PartRequirement(
+            part.name,
+            part.field_path,
+            f"noise at its input at {rate:g} Hz data rate",
+            at_rate,
+            "V",
+            "max",
+            f"rms, quantisation included, gain {adc.gain:g}{after}",
+            "σ_ADC = σ_share · G_total / √(post factor)",
+        ),
+        PartRequirement(
+            part.name,
+            part.field_path,
+            "SNR, full-scale sine",
+            snr,
+            "dB",
+            "min",
+            f"full-scale range {adc.full_scale_range_v:g} V p-p at {rate:g} Hz",
+            "SNR = 20·log10((FSR/2√2)/σ) (IEEE Std 1241)",
+        ),
+        PartRequirement(
+            part.name,
+            part.field_path,
+            "ENOB",
+            float(enob_from_sinad(snr)),
+            "bits",
+            "min",
+            "from the SNR above",
+            "ENOB = (SNR − 1.76)/6.02 (IEEE Std 1241)",
+        ),
+    ]
+    if "bits" in part.known:
+        q = adc.quantisation_rms_v
+        if q > at_rate:
+            osr = (q / at_rate) ** 2
+            rows.append(
+                PartRequirement(
+                    part.name,
+                    part.field_path,
+                    f"oversampling ratio for an ideal {adc.bits}-bit quantiser",
+                    osr,
+                    "",
+                    "min",
+                    "white (dithered) quantisation noise averaged down, 10·log10(OSR) dB",
+                    "OSR = (q/√12 / σ)²",
+                )
+            )
+        else:
+            rows.append(
+                PartRequirement(
+                    part.name,
+                    part.field_path,
+                    "transition noise",
+                    math.sqrt(at_rate**2 - q**2) / adc.lsb_v,
+                    "LSB",
+                    "max",
+                    f"rms, with quantisation q/√12 of {adc.bits} bits added",
+                    "√(σ² − q²/12) / LSB",
+                )
+            )
+    return rows, {"noise": NoiseAtRate(at_rate, rate)}
+
+
+def _no_room(slot: Slot, chain: Chain):
+    """A part left with nothing: it would have to be noiseless."""
+    part = slot.part
+    row = PartRequirement(
+        part.name,
+        part.field_path,
+        "noise allowance",
+        0.0,
+        "V",
+        "max",
+        "nothing is left for this part (see the reasons and levers)",
+        "σ² = 0",
+    )
+    limit = {
+        "amplifier": {"en": NoiseDensity(0.0)},
+        "filter": {"noise_resistance_ohm": 0.0},
+        "reference": {"noise": NoiseDensity(0.0)},
+        "adc": {"noise": NoiseAtRate(0.0, chain.adc.output_rate_hz)},
+    }[part.kind]
+    return [row], limit
+
+
+_CONVERTERS = {
+    "amplifier": _amplifier_rows,
+    "filter": _filter_rows,
+    "reference": _reference_rows,
+    "adc": _adc_rows,
+}
+
+
+def gain_limits(slots, chain: Chain, design: Design, fixed, allowed: float, reasons: list) -> list:
+    """Largest gain the ADC range allows and the least the fixed ADC noise needs."""
+    i = first_gain_index(chain)
+    if i is None:
+        return []
+    stage = chain.stages[i]
+    name = stage.name
+    path = next((s.part.field_path for s in slots if s.index == i), f"stages[{i}]")
+    g_in = chain.gain_before(i)
+    others = chain.total_gain / stage.gain
+    g_max = chain.adc.full_scale_range_v / (design.sensor.span_v * others)
+    rows = [
+        PartRequirement(
+            name,
+            path,
+            "front-end gain the ADC range allows",
+            g_max,
+            "V/V",
+            "max",
+            f"sensor span {_v(design.sensor.span_v)} into {chain.adc.full_scale_range_v:g} V "
+            "full-scale range",
+            "G_max = FSR / (span · other gains)",
+        )
+    ]
+    later = {s.name for s in chain.stages[i + 1 :]} | {chain.adc.name}
+    post_sq = sum((c.rms_v * g_in * stage.gain) ** 2 for c in fixed if c.stage in later)
+    pre_sq = sum(c.rms_v**2 for c in fixed if c.stage not in later)
+    room = allowed**2 - pre_sq
+    if post_sq > 0 and room > 0:
+        g_min = math.sqrt(post_sq) / (math.sqrt(room) * g_in)
+        rows.append(
+            PartRequirement(
+                name,
+                path,
+                "front-end gain the given later parts need",
+                g_min,
+                "V/V",
+                "min",
+                "their noise alone fills the budget at this gain, everything else noiseless",
+                "G_min = σ_after / (√(σ² − σ_before²) · G_in)",
+            )
+        )
+        if g_min > g_max * (1 + 1e-9):
+            reasons.append(
+                f"the ADC's noise needs a front-end gain of at least {g_min:.4g} V/V but the ADC "
+                f"range allows at most {g_max:.4g} V/V: a quieter ADC or a larger span"
+            )
+    return rows
+
+
+def given_adc_limits(chain: Chain, design: Design, budget: Budget, allowed: float) -> list:
+    """For a given ADC with white noise: the highest output data rate that still fits."""
+    adc = design.adc
+    if isinstance(adc, OpenPart) or design.open_parts:
+        return []
+    if not isinstance(adc.noise, NoiseAtRate | SnrNoise | TransitionNoise):
+        return []
+    own = [c for c in budget.contributions if c.stage == adc.name]
+    own_sq = sum(c.rms_v**2 for c in own)
+    rest = budget.total_rms_v**2 - own_sq
+    room = allowed**2 - rest
+    if own_sq <= 0 or room <= 0:
+        return []
+    factor = room / own_sq
+    return [
+        PartRequirement(
+            adc.name,
+            "adc",
+            "highest output data rate for this ADC",
+            chain.output_rate_hz * factor,
+            "Hz",
+            "info",
+            "its noise white from sample to sample and the other parts unchanged",
+            "ODR_max = ODR · room/σ_ADC²",
+        )
+    ]
+
+
+def part_limits(slot: Slot, var: float, chain: Chain, design: Design, band, grid_points: int):
+    """Rows of figures and the limits to realise one open part with variance ``var`` (V²)."""
+    if var > 0:
+        return _CONVERTERS[slot.part.kind](slot, var, chain, design, band, grid_points)
+    return _no_room(slot, chain)
