@@ -55,6 +55,7 @@ __all__ = [
     "NoiseSource",
     "Part",
     "Netlist",
+    "OpAmpModel",
     "noisy_opamp",
 ]
 
@@ -548,6 +549,9 @@ def noisy_opamp(name: str, plus: str, minus: str, output: str, *, dc_gain: float
     ...                             en_v_per_rthz=5e-9, in_minus_a_per_rthz=1e-12)]
     ['U1.en', 'U1.in-', 'U1']
     """
+    _check_density(name, "en_v_per_rthz", en_v_per_rthz, en_corner_hz, "V/rtHz")
+    _check_density(name, "in_plus_a_per_rthz", in_plus_a_per_rthz, in_corner_hz, "A/rtHz")
+    _check_density(name, "in_minus_a_per_rthz", in_minus_a_per_rthz, in_corner_hz, "A/rtHz")
     parts: list[Part] = []
     pin = plus
     if en_v_per_rthz > 0.0:
@@ -561,3 +565,28 @@ def noisy_opamp(name: str, plus: str, minus: str, output: str, *, dc_gain: float
                                   in_corner_hz))
     parts.append(OpAmp(name, pin, minus, output, dc_gain, gbw_hz))
     return tuple(parts)
+
+
+@dataclass(frozen=True)
+class OpAmpModel:
+    """An op amp's gain and noise, to place with :meth:`parts` (see :func:`noisy_opamp`).
+
+    Parameters are those of :func:`noisy_opamp`; the values are checked when parts are built.
+    """
+
+    dc_gain: float
+    gbw_hz: float
+    en_v_per_rthz: float = 0.0
+    en_corner_hz: float = 0.0
+    in_plus_a_per_rthz: float = 0.0
+    in_minus_a_per_rthz: float = 0.0
+    in_corner_hz: float = 0.0
+
+    def parts(self, name: str, plus: str, minus: str, output: str) -> tuple[Part, ...]:
+        """The op amp and its noise sources, named under ``name``."""
+        return noisy_opamp(name, plus, minus, output, dc_gain=self.dc_gain,
+                           gbw_hz=self.gbw_hz, en_v_per_rthz=self.en_v_per_rthz,
+                           en_corner_hz=self.en_corner_hz,
+                           in_plus_a_per_rthz=self.in_plus_a_per_rthz,
+                           in_minus_a_per_rthz=self.in_minus_a_per_rthz,
+                           in_corner_hz=self.in_corner_hz)
