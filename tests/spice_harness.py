@@ -135,14 +135,14 @@ def to_spice(netlist: Netlist) -> tuple[str, str, dict[str, str]]:
             cards.append(f"Gamp{i} 0 {x} {p} {m} {_number(part.dc_gain)}")
             cards.append(f"Ramp{i} {x} 0 1 noisy=0")
             if math.isfinite(part.gbw_hz):
-                cards.append(f"Camp{i} {x} 0 "
-                             f"{_number(part.dc_gain / (2 * math.pi * part.gbw_hz))}")
+                cards.append(f"Camp{i} {x} 0 {_number(part.dc_gain / (2 * math.pi * part.gbw_hz))}")
             cards.append(f"Eamp{i} {o} 0 {x} 0 1")
         elif isinstance(part, VoltageNoise):
             p, m = nodes(part)
             g = generator(i, part.corner_hz)
-            cards.append(f"Enoise{i} {p} {m} {g} 0 "
-                         f"{_number(part.white_v_per_rthz / math.sqrt(four_kt))}")
+            cards.append(
+                f"Enoise{i} {p} {m} {g} 0 {_number(part.white_v_per_rthz / math.sqrt(four_kt))}"
+            )
         elif isinstance(part, CurrentNoise | ShotNoise):
             a, b = nodes(part)
             if isinstance(part, CurrentNoise):
@@ -172,8 +172,13 @@ def _read_table(path: Path) -> np.ndarray:
     return np.array([[float(x) for x in line.split()] for line in lines[1:] if line.strip()])
 
 
-def run_noise(netlist: Netlist, f_start_hz: float, f_stop_hz: float,
-              points_per_decade: int = 50, timeout_s: float = 60.0) -> SpiceResult:
+def run_noise(
+    netlist: Netlist,
+    f_start_hz: float,
+    f_stop_hz: float,
+    points_per_decade: int = 50,
+    timeout_s: float = 60.0,
+) -> SpiceResult:
     """Run ngspice's ``.noise`` (and ``.ac`` when there is a signal input) on a decade grid."""
     exe = require_ngspice()
     cards, source, names = to_spice(netlist)
@@ -200,11 +205,18 @@ def run_noise(netlist: Netlist, f_start_hz: float, f_stop_hz: float,
             "quit 0\n.endc\n.end\n"
         )
         (d / "deck.cir").write_text(deck)
-        run = subprocess.run([exe, "-b", str(d / "deck.cir")], capture_output=True, text=True,
-                             timeout=timeout_s, check=False)
+        run = subprocess.run(
+            [exe, "-b", str(d / "deck.cir")],
+            capture_output=True,
+            text=True,
+            timeout=timeout_s,
+            check=False,
+        )
         if run.returncode != 0 or not (d / "density.txt").exists():
-            raise RuntimeError(f"ngspice failed ({run.returncode}):\n{run.stdout}\n{run.stderr}"
-                               f"\n--- deck ---\n{deck}")
+            raise RuntimeError(
+                f"ngspice failed ({run.returncode}):\n{run.stdout}\n{run.stderr}"
+                f"\n--- deck ---\n{deck}"
+            )
         density = _read_table(d / "density.txt")
         total = _read_table(d / "total.txt")
         ac = None

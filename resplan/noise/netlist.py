@@ -87,8 +87,12 @@ class CircuitError(ResplanError, ValueError):
     'circuit: floating node (node mid; part stages[0].C1)'
     """
 
-    def __init__(self, problem: str, nodes: tuple[str, ...] | list[str] = (),
-                 parts: tuple[str, ...] | list[str] = ()):
+    def __init__(
+        self,
+        problem: str,
+        nodes: tuple[str, ...] | list[str] = (),
+        parts: tuple[str, ...] | list[str] = (),
+    ):
         self.problem = problem
         self.nodes = tuple(nodes)
         self.parts = tuple(parts)
@@ -110,12 +114,19 @@ class CircuitError(ResplanError, ValueError):
 
 def _check_name(owner: str, attribute: str, value: object) -> None:
     if not isinstance(value, str) or not value.strip():
-        raise DesignError(f"{owner}.{attribute}" if owner else attribute, value,
-                          "a non-empty name")
+        raise DesignError(f"{owner}.{attribute}" if owner else attribute, value, "a non-empty name")
 
 
-def _check_number(owner: str, attribute: str, value: object, *, minimum: float,
-                  strict: bool, allow_inf: bool, unit: str) -> None:
+def _check_number(
+    owner: str,
+    attribute: str,
+    value: object,
+    *,
+    minimum: float,
+    strict: bool,
+    allow_inf: bool,
+    unit: str,
+) -> None:
     ok = isinstance(value, int | float) and not isinstance(value, bool) and not math.isnan(value)
     if ok and math.isinf(value):
         ok = allow_inf and value > 0
@@ -125,8 +136,7 @@ def _check_number(owner: str, attribute: str, value: object, *, minimum: float,
         relation = ">" if strict else "≥"
         finite = "" if allow_inf else "finite "
         bound = "" if math.isinf(minimum) else f" {relation} {minimum:g}"
-        raise DesignError(f"{owner}.{attribute}", value,
-                          f"a {finite}number{bound} in {unit}")
+        raise DesignError(f"{owner}.{attribute}", value, f"a {finite}number{bound} in {unit}")
 
 
 def _check_nodes(owner: str, **nodes: str) -> None:
@@ -211,11 +221,25 @@ class Resistor:
     def __post_init__(self) -> None:
         _check_name("", "name", self.name)
         _check_nodes(self.name, a=self.a, b=self.b)
-        _check_number(self.name, "resistance_ohm", self.resistance_ohm, minimum=0.0,
-                      strict=True, allow_inf=False, unit="ohm")
+        _check_number(
+            self.name,
+            "resistance_ohm",
+            self.resistance_ohm,
+            minimum=0.0,
+            strict=True,
+            allow_inf=False,
+            unit="ohm",
+        )
         if self.temperature_k is not None:
-            _check_number(self.name, "temperature_k", self.temperature_k, minimum=0.0,
-                          strict=False, allow_inf=False, unit="K")
+            _check_number(
+                self.name,
+                "temperature_k",
+                self.temperature_k,
+                minimum=0.0,
+                strict=False,
+                allow_inf=False,
+                unit="K",
+            )
         if self.noise_id is not None:
             _check_name(self.name, "noise_id", self.noise_id)
 
@@ -224,8 +248,16 @@ class Resistor:
         if self.noiseless:
             return ()
         t = temperature_k if self.temperature_k is None else self.temperature_k
-        return (NoiseSource(self.noise_id or f"{self.name}.thermal", self.name, "current",
-                            self.a, self.b, 4.0 * BOLTZMANN_J_PER_K * t / self.resistance_ohm),)
+        return (
+            NoiseSource(
+                self.noise_id or f"{self.name}.thermal",
+                self.name,
+                "current",
+                self.a,
+                self.b,
+                4.0 * BOLTZMANN_J_PER_K * t / self.resistance_ohm,
+            ),
+        )
 
 
 @dataclass(frozen=True)
@@ -240,8 +272,15 @@ class Capacitor:
     def __post_init__(self) -> None:
         _check_name("", "name", self.name)
         _check_nodes(self.name, a=self.a, b=self.b)
-        _check_number(self.name, "capacitance_f", self.capacitance_f, minimum=0.0,
-                      strict=True, allow_inf=False, unit="F")
+        _check_number(
+            self.name,
+            "capacitance_f",
+            self.capacitance_f,
+            minimum=0.0,
+            strict=True,
+            allow_inf=False,
+            unit="F",
+        )
 
     def noise_sources(self, temperature_k: float) -> tuple[NoiseSource, ...]:
         return ()
@@ -283,21 +322,22 @@ class OpAmp:
         _check_nodes(self.name, plus=self.plus, minus=self.minus, output=self.output)
         if self.output == GROUND:
             raise DesignError(f"{self.name}.output", self.output, "a node other than ground")
-        _check_number(self.name, "dc_gain", self.dc_gain, minimum=0.0, strict=True,
-                      allow_inf=True, unit="V/V")
-        _check_number(self.name, "gbw_hz", self.gbw_hz, minimum=0.0, strict=True,
-                      allow_inf=True, unit="Hz")
+        _check_number(
+            self.name, "dc_gain", self.dc_gain, minimum=0.0, strict=True, allow_inf=True, unit="V/V"
+        )
+        _check_number(
+            self.name, "gbw_hz", self.gbw_hz, minimum=0.0, strict=True, allow_inf=True, unit="Hz"
+        )
 
     def noise_sources(self, temperature_k: float) -> tuple[NoiseSource, ...]:
         return ()
 
 
-def _check_density(owner: str, attribute: str, white: float, corner_hz: float,
-                   unit: str) -> None:
-    _check_number(owner, attribute, white, minimum=0.0, strict=False, allow_inf=False,
-                  unit=unit)
-    _check_number(owner, "corner_hz", corner_hz, minimum=0.0, strict=False,
-                  allow_inf=False, unit="Hz")
+def _check_density(owner: str, attribute: str, white: float, corner_hz: float, unit: str) -> None:
+    _check_number(owner, attribute, white, minimum=0.0, strict=False, allow_inf=False, unit=unit)
+    _check_number(
+        owner, "corner_hz", corner_hz, minimum=0.0, strict=False, allow_inf=False, unit="Hz"
+    )
 
 
 @dataclass(frozen=True)
@@ -316,12 +356,22 @@ class VoltageNoise:
     def __post_init__(self) -> None:
         _check_name("", "name", self.name)
         _check_nodes(self.name, plus=self.plus, minus=self.minus)
-        _check_density(self.name, "white_v_per_rthz", self.white_v_per_rthz, self.corner_hz,
-                       "V/rtHz")
+        _check_density(
+            self.name, "white_v_per_rthz", self.white_v_per_rthz, self.corner_hz, "V/rtHz"
+        )
 
     def noise_sources(self, temperature_k: float) -> tuple[NoiseSource, ...]:
-        return (NoiseSource(self.name, self.name, "voltage", self.plus, self.minus,
-                            self.white_v_per_rthz**2, self.corner_hz),)
+        return (
+            NoiseSource(
+                self.name,
+                self.name,
+                "voltage",
+                self.plus,
+                self.minus,
+                self.white_v_per_rthz**2,
+                self.corner_hz,
+            ),
+        )
 
 
 @dataclass(frozen=True)
@@ -340,12 +390,22 @@ class CurrentNoise:
     def __post_init__(self) -> None:
         _check_name("", "name", self.name)
         _check_nodes(self.name, a=self.a, b=self.b)
-        _check_density(self.name, "white_a_per_rthz", self.white_a_per_rthz, self.corner_hz,
-                       "A/rtHz")
+        _check_density(
+            self.name, "white_a_per_rthz", self.white_a_per_rthz, self.corner_hz, "A/rtHz"
+        )
 
     def noise_sources(self, temperature_k: float) -> tuple[NoiseSource, ...]:
-        return (NoiseSource(self.name, self.name, "current", self.a, self.b,
-                            self.white_a_per_rthz**2, self.corner_hz),)
+        return (
+            NoiseSource(
+                self.name,
+                self.name,
+                "current",
+                self.a,
+                self.b,
+                self.white_a_per_rthz**2,
+                self.corner_hz,
+            ),
+        )
 
 
 @dataclass(frozen=True)
@@ -364,12 +424,27 @@ class ShotNoise:
     def __post_init__(self) -> None:
         _check_name("", "name", self.name)
         _check_nodes(self.name, a=self.a, b=self.b)
-        _check_number(self.name, "current_a", self.current_a, minimum=-math.inf,
-                      strict=False, allow_inf=False, unit="A")
+        _check_number(
+            self.name,
+            "current_a",
+            self.current_a,
+            minimum=-math.inf,
+            strict=False,
+            allow_inf=False,
+            unit="A",
+        )
 
     def noise_sources(self, temperature_k: float) -> tuple[NoiseSource, ...]:
-        return (NoiseSource(self.name, self.name, "current", self.a, self.b,
-                            2.0 * ELEMENTARY_CHARGE_C * abs(self.current_a)),)
+        return (
+            NoiseSource(
+                self.name,
+                self.name,
+                "current",
+                self.a,
+                self.b,
+                2.0 * ELEMENTARY_CHARGE_C * abs(self.current_a),
+            ),
+        )
 
 
 @dataclass(frozen=True)
@@ -404,10 +479,26 @@ class CurrentSource:
         return ()
 
 
-Part = (Resistor | Capacitor | OpAmp | VoltageNoise | CurrentNoise | ShotNoise
-        | VoltageSource | CurrentSource)
-_PART_TYPES = (Resistor, Capacitor, OpAmp, VoltageNoise, CurrentNoise, ShotNoise,
-               VoltageSource, CurrentSource)
+Part = (
+    Resistor
+    | Capacitor
+    | OpAmp
+    | VoltageNoise
+    | CurrentNoise
+    | ShotNoise
+    | VoltageSource
+    | CurrentSource
+)
+_PART_TYPES = (
+    Resistor,
+    Capacitor,
+    OpAmp,
+    VoltageNoise,
+    CurrentNoise,
+    ShotNoise,
+    VoltageSource,
+    CurrentSource,
+)
 
 
 def part_nodes(part: Part) -> tuple[str, ...]:
@@ -463,8 +554,15 @@ class Netlist:
 
     def __post_init__(self) -> None:
         object.__setattr__(self, "parts", tuple(self.parts))
-        _check_number("netlist", "temperature_k", self.temperature_k, minimum=0.0,
-                      strict=False, allow_inf=False, unit="K")
+        _check_number(
+            "netlist",
+            "temperature_k",
+            self.temperature_k,
+            minimum=0.0,
+            strict=False,
+            allow_inf=False,
+            unit="K",
+        )
         seen: dict[str, Part] = {}
         for index, part in enumerate(self.parts):
             if not isinstance(part, _PART_TYPES):
@@ -476,9 +574,10 @@ class Netlist:
         ids: set[str] = set()
         for source in sources:
             if source.source_id in ids:
-                raise CircuitError(f"two noise sources share the id {source.source_id}",
-                                   parts=[s.part for s in sources
-                                          if s.source_id == source.source_id])
+                raise CircuitError(
+                    f"two noise sources share the id {source.source_id}",
+                    parts=[s.part for s in sources if s.source_id == source.source_id],
+                )
             ids.add(source.source_id)
         object.__setattr__(self, "_sources", sources)
         nodes = set(self.nodes) | {GROUND}
@@ -488,13 +587,17 @@ class Netlist:
             if node not in nodes:
                 raise DesignError(f"netlist.{attribute}", node, "a node of the circuit")
         if self.output == self.output_reference:
-            raise DesignError("netlist.output_reference", self.output_reference,
-                              "a node other than the output")
+            raise DesignError(
+                "netlist.output_reference", self.output_reference, "a node other than the output"
+            )
         if self.signal_input is not None:
             part = seen.get(self.signal_input)
             if not isinstance(part, VoltageSource | CurrentSource):
-                raise DesignError("netlist.signal_input", self.signal_input,
-                                  "the name of a VoltageSource or CurrentSource")
+                raise DesignError(
+                    "netlist.signal_input",
+                    self.signal_input,
+                    "the name of a VoltageSource or CurrentSource",
+                )
 
     @property
     def nodes(self) -> tuple[str, ...]:
@@ -519,10 +622,20 @@ class Netlist:
         raise KeyError(name)
 
 
-def noisy_opamp(name: str, plus: str, minus: str, output: str, *, dc_gain: float,
-                gbw_hz: float, en_v_per_rthz: float = 0.0, en_corner_hz: float = 0.0,
-                in_plus_a_per_rthz: float = 0.0, in_minus_a_per_rthz: float = 0.0,
-                in_corner_hz: float = 0.0) -> tuple[Part, ...]:
+def noisy_opamp(
+    name: str,
+    plus: str,
+    minus: str,
+    output: str,
+    *,
+    dc_gain: float,
+    gbw_hz: float,
+    en_v_per_rthz: float = 0.0,
+    en_corner_hz: float = 0.0,
+    in_plus_a_per_rthz: float = 0.0,
+    in_minus_a_per_rthz: float = 0.0,
+    in_corner_hz: float = 0.0,
+) -> tuple[Part, ...]:
     """An op amp with its noise model (Motchenbacher & Connelly): four parts.
 
     e_n is a :class:`VoltageNoise` in series with the + input (id ``"<name>.en"``,
@@ -558,11 +671,9 @@ def noisy_opamp(name: str, plus: str, minus: str, output: str, *, dc_gain: float
         pin = f"{name}.in"
         parts.append(VoltageNoise(f"{name}.en", pin, plus, en_v_per_rthz, en_corner_hz))
     if in_plus_a_per_rthz > 0.0:
-        parts.append(CurrentNoise(f"{name}.in+", GROUND, plus, in_plus_a_per_rthz,
-                                  in_corner_hz))
+        parts.append(CurrentNoise(f"{name}.in+", GROUND, plus, in_plus_a_per_rthz, in_corner_hz))
     if in_minus_a_per_rthz > 0.0:
-        parts.append(CurrentNoise(f"{name}.in-", GROUND, minus, in_minus_a_per_rthz,
-                                  in_corner_hz))
+        parts.append(CurrentNoise(f"{name}.in-", GROUND, minus, in_minus_a_per_rthz, in_corner_hz))
     parts.append(OpAmp(name, pin, minus, output, dc_gain, gbw_hz))
     return tuple(parts)
 
@@ -584,9 +695,16 @@ class OpAmpModel:
 
     def parts(self, name: str, plus: str, minus: str, output: str) -> tuple[Part, ...]:
         """The op amp and its noise sources, named under ``name``."""
-        return noisy_opamp(name, plus, minus, output, dc_gain=self.dc_gain,
-                           gbw_hz=self.gbw_hz, en_v_per_rthz=self.en_v_per_rthz,
-                           en_corner_hz=self.en_corner_hz,
-                           in_plus_a_per_rthz=self.in_plus_a_per_rthz,
-                           in_minus_a_per_rthz=self.in_minus_a_per_rthz,
-                           in_corner_hz=self.in_corner_hz)
+        return noisy_opamp(
+            name,
+            plus,
+            minus,
+            output,
+            dc_gain=self.dc_gain,
+            gbw_hz=self.gbw_hz,
+            en_v_per_rthz=self.en_v_per_rthz,
+            en_corner_hz=self.en_corner_hz,
+            in_plus_a_per_rthz=self.in_plus_a_per_rthz,
+            in_minus_a_per_rthz=self.in_minus_a_per_rthz,
+            in_corner_hz=self.in_corner_hz,
+        )

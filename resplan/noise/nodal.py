@@ -152,27 +152,37 @@ def _check_topology(net: Netlist) -> None:
         if isinstance(part, Resistor | Capacitor):
             connected.union(part.a, part.b)
         elif isinstance(part, VoltageNoise | VoltageSource | OpAmp):
-            a, b = ((part.output, GROUND) if isinstance(part, OpAmp)
-                    else (part.plus, part.minus))
+            a, b = (part.output, GROUND) if isinstance(part, OpAmp) else (part.plus, part.minus)
             if a == b:
-                raise CircuitError("a voltage source shorted on itself", nodes=[a],
-                                   parts=[part.name])
+                raise CircuitError(
+                    "a voltage source shorted on itself", nodes=[a], parts=[part.name]
+                )
             connected.union(a, b)
             if not sources.union(a, b):
-                loop = [p.name for p in net.parts
-                        if isinstance(p, VoltageNoise | VoltageSource | OpAmp)
-                        and sources.find(p.output if isinstance(p, OpAmp) else p.plus)
-                        == sources.find(a)]
-                raise CircuitError("a loop of voltage sources (an op-amp output is a source "
-                                   "to ground) leaves a branch current undefined",
-                                   nodes=[a, b], parts=loop)
+                loop = [
+                    p.name
+                    for p in net.parts
+                    if isinstance(p, VoltageNoise | VoltageSource | OpAmp)
+                    and sources.find(p.output if isinstance(p, OpAmp) else p.plus)
+                    == sources.find(a)
+                ]
+                raise CircuitError(
+                    "a loop of voltage sources (an op-amp output is a source "
+                    "to ground) leaves a branch current undefined",
+                    nodes=[a, b],
+                    parts=loop,
+                )
     ground = connected.find(GROUND)
     floating = [n for n in net.nodes if connected.find(n) != ground]
     if floating:
         touching = [p.name for p in net.parts if set(part_nodes(p)) & set(floating)]
-        raise CircuitError("floating node: no path to ground through resistors, capacitors "
-                           "or voltage sources (current sources and op-amp inputs do not "
-                           "count)", nodes=floating, parts=touching)
+        raise CircuitError(
+            "floating node: no path to ground through resistors, capacitors "
+            "or voltage sources (current sources and op-amp inputs do not "
+            "count)",
+            nodes=floating,
+            parts=touching,
+        )
 
 
 def build_mna(netlist: Netlist) -> MnaSystem:
@@ -251,8 +261,12 @@ def build_mna(netlist: Netlist) -> MnaSystem:
             k = branch_index[part.name]
             g[node_index[part.output], k] += 1.0
             stamp(g, k, part.output, 0.0 if math.isinf(part.dc_gain) else 1.0 / part.dc_gain)
-            stamp(c, k, part.output,
-                  0.0 if math.isinf(part.gbw_hz) else 1.0 / (2.0 * math.pi * part.gbw_hz))
+            stamp(
+                c,
+                k,
+                part.output,
+                0.0 if math.isinf(part.gbw_hz) else 1.0 / (2.0 * math.pi * part.gbw_hz),
+            )
             stamp(g, k, part.plus, -1.0)
             stamp(g, k, part.minus, 1.0)
     unknowns = tuple(f"v({x})" for x in nodes) + tuple(f"i({p.name})" for p in branch_parts)
@@ -266,28 +280,43 @@ def build_mna(netlist: Netlist) -> MnaSystem:
 def _check_grid(frequency_hz: ArrayLike) -> np.ndarray:
     f = np.asarray(frequency_hz, dtype=float)
     if f.ndim != 1 or f.size == 0 or not np.all(np.isfinite(f)) or np.any(f < 0.0):
-        raise DesignError("frequency_hz", frequency_hz,
-                          "a non-empty 1-D array of finite frequencies ≥ 0 Hz")
+        raise DesignError(
+            "frequency_hz", frequency_hz, "a non-empty 1-D array of finite frequencies ≥ 0 Hz"
+        )
     return f
 
 
 def _diagnose_singular(mna: MnaSystem, frequency_hz: np.ndarray) -> CircuitError:
-    """Name the unknowns spanning the null space at the worst frequency."""
+    """Name the unknowns and equations of the null space at the worst frequency.
+
+    The right null vector holds the unknowns the circuit leaves free, the left one
+    the equations that conflict or repeat (KCL at a node, or a source's or op amp's
+    constraint); both are read after equilibration so that volts and amperes compare.
+    """
     s = 2j * np.pi * frequency_hz
     m = mna.conductance[None] + s[:, None, None] * mna.capacitance[None]
-    _, sv, vh = np.linalg.svd(m)
+    sv = np.linalg.svd(m, compute_uv=False)
     ratio = sv[:, -1] / np.maximum(sv[:, 0], np.finfo(float).tiny)
     worst = int(np.argmin(ratio))
-    null = np.abs(vh[worst, -1])
-    rows = np.flatnonzero(null > 0.1 * null.max())
-    nodes, parts = [], []
-    for row in rows:
-        node, part = mna.unknown_parts(int(row))
-        (parts if part else nodes).append(part or node)
-    return CircuitError(f"singular at {frequency_hz[worst]:g} Hz: the circuit does not fix "
-                        "these voltages or branch currents (a node held only by capacitors "
-                        "at 0 Hz, or an ideal op amp without feedback)",
-                        nodes=nodes, parts=parts)
+    omega = 2.0 * np.pi * float(frequency_hz[worst])
+    gs, cs = _equilibrate(mna.conductance, mna.capacitance, omega if omega > 0 else 1.0)
+    u, _, vh = np.linalg.svd(gs + 1j * omega * cs)
+    nodes: dict[str, None] = {}
+    parts: dict[str, None] = {}
+    for vector in (np.abs(vh[-1]), np.abs(u[:, -1])):
+        for row in np.flatnonzero(vector > 0.1 * vector.max()):
+            node, part = mna.unknown_parts(int(row))
+            if part:
+                parts.setdefault(part, None)
+            else:
+                nodes.setdefault(node, None)
+    return CircuitError(
+        f"singular at {frequency_hz[worst]:g} Hz: the circuit does not fix "
+        "these voltages or branch currents (a node held only by capacitors "
+        "at 0 Hz, or an ideal op amp without feedback)",
+        nodes=list(nodes),
+        parts=list(parts),
+    )
 
 
 def _adjoint_solve(mna: MnaSystem, frequency_hz: np.ndarray, rhs: np.ndarray) -> np.ndarray:
@@ -297,7 +326,7 @@ def _adjoint_solve(mna: MnaSystem, frequency_hz: np.ndarray, rhs: np.ndarray) ->
     chunk = max(1, _CHUNK_ENTRIES // max(1, n * n))
     out = np.empty((frequency_hz.size, n), dtype=complex)
     for start in range(0, frequency_hz.size, chunk):
-        f = frequency_hz[start:start + chunk]
+        f = frequency_hz[start : start + chunk]
         m = gt[None] + (2j * np.pi * f)[:, None, None] * ct[None]
         b = np.broadcast_to(rhs[:, None], (f.size, n, 1))
         try:
@@ -306,12 +335,13 @@ def _adjoint_solve(mna: MnaSystem, frequency_hz: np.ndarray, rhs: np.ndarray) ->
             raise _diagnose_singular(mna, f) from None
         if not np.all(np.isfinite(y)):
             raise _diagnose_singular(mna, f)
-        out[start:start + chunk] = y
+        out[start : start + chunk] = y
     return out
 
 
-def _transfer_columns(mna: MnaSystem, y: np.ndarray, sources: list[tuple[str, str, str, str]]
-                      ) -> np.ndarray:
+def _transfer_columns(
+    mna: MnaSystem, y: np.ndarray, sources: list[tuple[str, str, str, str]]
+) -> np.ndarray:
     """Transfers (F, S) from sources given as (kind, name, a, b) to the output."""
     f = y.shape[0]
     padded = np.concatenate([y, np.zeros((f, 1), dtype=complex)], axis=1)
@@ -333,8 +363,9 @@ def _density_sq(sources: tuple[NoiseSource, ...], frequency_hz: np.ndarray) -> n
     flicker = corner > 0.0
     if np.any(flicker) and np.any(frequency_hz == 0.0):
         bad = [s.source_id for s in sources if s.corner_hz > 0.0]
-        raise CircuitError("a 1/f source has no finite density at 0 Hz; start the grid "
-                           "above 0 Hz", parts=bad)
+        raise CircuitError(
+            "a 1/f source has no finite density at 0 Hz; start the grid above 0 Hz", parts=bad
+        )
     with np.errstate(divide="ignore", invalid="ignore"):
         ratio = np.where(flicker[None, :], corner[None, :] / frequency_hz[:, None], 0.0)
     return white[None, :] * (1.0 + ratio)
@@ -380,8 +411,9 @@ class NoiseSolution:
         try:
             return self.source_ids.index(source_id)
         except ValueError:
-            raise KeyError(f"no noise source {source_id!r}; the ids are "
-                           f"{', '.join(self.source_ids)}") from None
+            raise KeyError(
+                f"no noise source {source_id!r}; the ids are {', '.join(self.source_ids)}"
+            ) from None
 
     def transfer_of(self, source_id: str) -> np.ndarray:
         """Transfer (F,) from one source to the output, V/V or V/A."""
@@ -407,8 +439,12 @@ class NoiseSolution:
             raise CircuitError("no signal input is named, so nothing to refer the noise to")
         return self.total_psd_v2_per_hz / np.abs(self.signal_transfer) ** 2
 
-    def rms_v(self, f_low_hz: float | None = None, f_high_hz: float | None = None,
-              source_id: str | None = None) -> float:
+    def rms_v(
+        self,
+        f_low_hz: float | None = None,
+        f_high_hz: float | None = None,
+        source_id: str | None = None,
+    ) -> float:
         """Output rms noise in a band, V: each source integrated, then added in power.
 
         The band defaults to the whole grid; see :func:`integrate_psd`.
@@ -417,8 +453,9 @@ class NoiseSolution:
         power = integrate_psd(self.frequency_hz, columns, f_low_hz, f_high_hz)
         return float(np.sqrt(np.sum(power)))
 
-    def rms_by_source(self, f_low_hz: float | None = None,
-                      f_high_hz: float | None = None) -> dict[str, float]:
+    def rms_by_source(
+        self, f_low_hz: float | None = None, f_high_hz: float | None = None
+    ) -> dict[str, float]:
         """Output rms of each source in a band, V."""
         power = integrate_psd(self.frequency_hz, self.output_psd, f_low_hz, f_high_hz)
         return dict(zip(self.source_ids, np.sqrt(power).tolist(), strict=True))
@@ -492,8 +529,7 @@ def solve_noise(netlist: Netlist, frequency_hz: ArrayLike) -> NoiseSolution:
 # integration on the grid
 
 
-def _loglog_segments(f1: np.ndarray, f2: np.ndarray, s1: np.ndarray, s2: np.ndarray
-                     ) -> np.ndarray:
+def _loglog_segments(f1: np.ndarray, f2: np.ndarray, s1: np.ndarray, s2: np.ndarray) -> np.ndarray:
     """∫ over [f1, f2] of a PSD that is a power law between (f1, s1) and (f2, s2)."""
     trapezoid = 0.5 * (s1 + s2) * (f2 - f1)
     usable = (f1 > 0.0) & (s1 > 0.0) & (s2 > 0.0) & (f2 > f1)
@@ -505,8 +541,9 @@ def _loglog_segments(f1: np.ndarray, f2: np.ndarray, s1: np.ndarray, s2: np.ndar
     return np.where(usable & np.isfinite(power_law), power_law, trapezoid)
 
 
-def _loglog_value(f: float, f1: np.ndarray, f2: np.ndarray, s1: np.ndarray,
-                  s2: np.ndarray) -> np.ndarray:
+def _loglog_value(
+    f: float, f1: np.ndarray, f2: np.ndarray, s1: np.ndarray, s2: np.ndarray
+) -> np.ndarray:
     if f1 <= 0.0 or np.any(s1 <= 0.0) or np.any(s2 <= 0.0):
         t = (f - f1) / (f2 - f1)
         return s1 + t * (s2 - s1)
@@ -514,8 +551,12 @@ def _loglog_value(f: float, f1: np.ndarray, f2: np.ndarray, s1: np.ndarray,
     return s1 * (s2 / s1) ** t
 
 
-def integrate_psd(frequency_hz: ArrayLike, psd: ArrayLike, f_low_hz: float | None = None,
-                  f_high_hz: float | None = None) -> np.ndarray:
+def integrate_psd(
+    frequency_hz: ArrayLike,
+    psd: ArrayLike,
+    f_low_hz: float | None = None,
+    f_high_hz: float | None = None,
+) -> np.ndarray:
     r"""Integrate PSDs over a band of the grid, assuming a power law between grid points.
 
     Parameters
@@ -557,8 +598,9 @@ def integrate_psd(frequency_hz: ArrayLike, psd: ArrayLike, f_low_hz: float | Non
     hi = f[-1] if f_high_hz is None else float(f_high_hz)
     tolerance = 1e-9 * (f[-1] - f[0])
     if not (f[0] - tolerance <= lo < hi <= f[-1] + tolerance):
-        raise DesignError("band", (f_low_hz, f_high_hz),
-                          f"f_low < f_high within the grid {f[0]:g}..{f[-1]:g} Hz")
+        raise DesignError(
+            "band", (f_low_hz, f_high_hz), f"f_low < f_high within the grid {f[0]:g}..{f[-1]:g} Hz"
+        )
     lo, hi = max(lo, f[0]), min(hi, f[-1])
     inside = (f > lo) & (f < hi)
     edges = []
@@ -573,8 +615,9 @@ def integrate_psd(frequency_hz: ArrayLike, psd: ArrayLike, f_low_hz: float | Non
     grid = np.concatenate([[lo], f[inside], [hi]])
     values = np.concatenate([edges[0][None], s[inside], edges[1][None]], axis=0)
     shape = (-1,) + (1,) * (values.ndim - 1)
-    pieces = _loglog_segments(grid[:-1].reshape(shape), grid[1:].reshape(shape),
-                              values[:-1], values[1:])
+    pieces = _loglog_segments(
+        grid[:-1].reshape(shape), grid[1:].reshape(shape), values[:-1], values[1:]
+    )
     return pieces.sum(axis=0)
 
 
@@ -652,8 +695,10 @@ def circuit_poles(netlist: Netlist) -> np.ndarray:
     alpha, beta = linalg.eigvals(gs, -cs, homogeneous_eigvals=True)
     scale = np.maximum(np.abs(alpha), np.abs(beta))
     if np.any(scale <= 1e-13 * max(1.0, float(scale.max()))):
-        raise CircuitError("det(G + sC) vanishes at every frequency: the circuit is singular "
-                           "(a node or branch current that nothing fixes)")
+        raise CircuitError(
+            "det(G + sC) vanishes at every frequency: the circuit is singular "
+            "(a node or branch current that nothing fixes)"
+        )
     finite = np.abs(beta) > 1e-10 * np.abs(alpha)
     poles = omega * alpha[finite] / beta[finite]
     return poles[np.argsort(np.abs(poles), kind="stable")]

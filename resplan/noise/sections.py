@@ -104,8 +104,9 @@ def _sections(kind: str, order: int) -> tuple[Section, ...]:
     real = [p for p in poles if abs(p.imag) <= 1e-12 * abs(p)]
     pairs = [p for p in poles if p.imag > 1e-12 * abs(p)]
     sections = [Section(float(abs(p)), None) for p in real]
-    sections += sorted((Section(float(abs(p)), float(abs(p) / (-2.0 * p.real))) for p in pairs),
-                       key=lambda s: s.q)
+    sections += sorted(
+        (Section(float(abs(p)), float(abs(p) / (-2.0 * p.real))) for p in pairs), key=lambda s: s.q
+    )
     return tuple(sections)
 
 
@@ -150,11 +151,19 @@ def filter_sections(kind: FilterKind, order: int) -> tuple[Section, ...]:
 
 def _check_section(f0_hz: float, q: float, gain: float, capacitor_f: float) -> None:
     for name, value in (("f0_hz", f0_hz), ("q", q), ("capacitor_f", capacitor_f)):
-        if not isinstance(value, int | float) or isinstance(value, bool) \
-                or not math.isfinite(value) or value <= 0.0:
+        if (
+            not isinstance(value, int | float)
+            or isinstance(value, bool)
+            or not math.isfinite(value)
+            or value <= 0.0
+        ):
             raise DesignError(name, value, "a finite number > 0")
-    if not isinstance(gain, int | float) or isinstance(gain, bool) \
-            or not math.isfinite(gain) or gain < 1.0:
+    if (
+        not isinstance(gain, int | float)
+        or isinstance(gain, bool)
+        or not math.isfinite(gain)
+        or gain < 1.0
+    ):
         raise DesignError("gain", gain, "a finite gain ≥ 1 V/V")
 
 
@@ -177,9 +186,15 @@ class SallenKeyValues:
     rg_ohm: float | None
 
 
-def sallen_key_lowpass(f0_hz: float, q: float, gain: float = 1.0, *,
-                       capacitor_f: float = DEFAULT_CAPACITOR_F, c1_f: float | None = None,
-                       rg_ohm: float = DEFAULT_GAIN_RESISTOR_OHM) -> SallenKeyValues:
+def sallen_key_lowpass(
+    f0_hz: float,
+    q: float,
+    gain: float = 1.0,
+    *,
+    capacitor_f: float = DEFAULT_CAPACITOR_F,
+    c1_f: float | None = None,
+    rg_ohm: float = DEFAULT_GAIN_RESISTOR_OHM,
+) -> SallenKeyValues:
     r"""Component values of a Sallen-Key low-pass section for (f₀, Q, gain).
 
     Parameters
@@ -243,9 +258,11 @@ def sallen_key_lowpass(f0_hz: float, q: float, gain: float = 1.0, *,
             disc = b * b - 4.0 * a * p * c2
             if disc < 0.0:
                 limit = 4.0 * q * q * c2 / (1.0 + 4.0 * q * q * (gain - 1.0))
-                raise DesignError("c1_f", c1_f,
-                                  f"C1 ≥ 4Q²·C2 / (1 + 4Q²(K − 1)) = {limit:.4g} F "
-                                  "(no real resistors otherwise)")
+                raise DesignError(
+                    "c1_f",
+                    c1_f,
+                    f"C1 ≥ 4Q²·C2 / (1 + 4Q²(K − 1)) = {limit:.4g} F (no real resistors otherwise)",
+                )
             roots = [(b + sign * math.sqrt(disc)) / (2.0 * a) for sign in (1.0, -1.0)]
         roots = [r for r in roots if r > 0.0]
         r1 = min(roots, key=lambda r: abs(math.log(r * r / p)))
@@ -274,9 +291,14 @@ class MultipleFeedbackValues:
     gain: float
 
 
-def multiple_feedback_lowpass(f0_hz: float, q: float, gain: float = 1.0, *,
-                              capacitor_f: float = DEFAULT_CAPACITOR_F,
-                              c1_f: float | None = None) -> MultipleFeedbackValues:
+def multiple_feedback_lowpass(
+    f0_hz: float,
+    q: float,
+    gain: float = 1.0,
+    *,
+    capacitor_f: float = DEFAULT_CAPACITOR_F,
+    c1_f: float | None = None,
+) -> MultipleFeedbackValues:
     r"""Component values of a multiple-feedback low-pass section for (f₀, Q, |gain|).
 
     Parameters
@@ -345,8 +367,9 @@ def real_pole_resistance(f0_hz: float, capacitor_f: float = DEFAULT_CAPACITOR_F)
 # sections as netlist parts
 
 
-def sallen_key_parts(prefix: str, values: SallenKeyValues, node_in: str, node_out: str,
-                     opamp: OpAmpModel) -> tuple[Part, ...]:
+def sallen_key_parts(
+    prefix: str, values: SallenKeyValues, node_in: str, node_out: str, opamp: OpAmpModel
+) -> tuple[Part, ...]:
     """Parts of a Sallen-Key section (see :class:`SallenKeyValues`), named under ``prefix``.
 
     Internal nodes are ``"<prefix>.a"``, ``"<prefix>.b"`` and (K > 1) ``"<prefix>.fb"``;
@@ -362,13 +385,16 @@ def sallen_key_parts(prefix: str, values: SallenKeyValues, node_in: str, node_ou
     ]
     if values.rf_ohm is not None and values.rg_ohm is not None:
         minus = f"{prefix}.fb"
-        parts += [Resistor(f"{prefix}.RF", node_out, minus, values.rf_ohm),
-                  Resistor(f"{prefix}.RG", minus, GROUND, values.rg_ohm)]
+        parts += [
+            Resistor(f"{prefix}.RF", node_out, minus, values.rf_ohm),
+            Resistor(f"{prefix}.RG", minus, GROUND, values.rg_ohm),
+        ]
     return (*parts, *opamp.parts(f"{prefix}.opamp", b, minus, node_out))
 
 
-def multiple_feedback_parts(prefix: str, values: MultipleFeedbackValues, node_in: str,
-                            node_out: str, opamp: OpAmpModel) -> tuple[Part, ...]:
+def multiple_feedback_parts(
+    prefix: str, values: MultipleFeedbackValues, node_in: str, node_out: str, opamp: OpAmpModel
+) -> tuple[Part, ...]:
     """Parts of a multiple-feedback section (see :class:`MultipleFeedbackValues`).
 
     Internal nodes are ``"<prefix>.a"`` and ``"<prefix>.b"``; the op amp is
@@ -385,21 +411,37 @@ def multiple_feedback_parts(prefix: str, values: MultipleFeedbackValues, node_in
     )
 
 
-def real_pole_parts(prefix: str, resistance_ohm: float, capacitance_f: float, node_in: str,
-                    node_out: str, opamp: OpAmpModel | None = None) -> tuple[Part, ...]:
+def real_pole_parts(
+    prefix: str,
+    resistance_ohm: float,
+    capacitance_f: float,
+    node_in: str,
+    node_out: str,
+    opamp: OpAmpModel | None = None,
+) -> tuple[Part, ...]:
     """An RC real pole, buffered by a follower ``"<prefix>.opamp"`` when ``opamp`` is given."""
     node_rc = node_out if opamp is None else f"{prefix}.rc"
-    parts: tuple[Part, ...] = (Resistor(f"{prefix}.R1", node_in, node_rc, resistance_ohm),
-                               Capacitor(f"{prefix}.C1", node_rc, GROUND, capacitance_f))
+    parts: tuple[Part, ...] = (
+        Resistor(f"{prefix}.R1", node_in, node_rc, resistance_ohm),
+        Capacitor(f"{prefix}.C1", node_rc, GROUND, capacitance_f),
+    )
     if opamp is not None:
         parts += opamp.parts(f"{prefix}.opamp", node_rc, node_out, node_out)
     return parts
 
 
-def lowpass_cascade_parts(prefix: str, kind: FilterKind, order: int, cutoff_hz: float,
-                          node_in: str, node_out: str, opamp: OpAmpModel, *,
-                          topology: Literal["sallen-key", "multiple-feedback"] = "sallen-key",
-                          capacitor_f: float = DEFAULT_CAPACITOR_F) -> tuple[Part, ...]:
+def lowpass_cascade_parts(
+    prefix: str,
+    kind: FilterKind,
+    order: int,
+    cutoff_hz: float,
+    node_in: str,
+    node_out: str,
+    opamp: OpAmpModel,
+    *,
+    topology: Literal["sallen-key", "multiple-feedback"] = "sallen-key",
+    capacitor_f: float = DEFAULT_CAPACITOR_F,
+) -> tuple[Part, ...]:
     """A unity-gain Butterworth or Bessel low-pass cascade as parts.
 
     Sections follow :func:`filter_sections`; section ``i`` is named
@@ -407,8 +449,12 @@ def lowpass_cascade_parts(prefix: str, kind: FilterKind, order: int, cutoff_hz: 
     ``node_out``). A real pole is buffered. Multiple-feedback sections invert, so an
     odd number of them inverts the whole cascade.
     """
-    if not isinstance(cutoff_hz, int | float) or isinstance(cutoff_hz, bool) \
-            or not math.isfinite(cutoff_hz) or cutoff_hz <= 0.0:
+    if (
+        not isinstance(cutoff_hz, int | float)
+        or isinstance(cutoff_hz, bool)
+        or not math.isfinite(cutoff_hz)
+        or cutoff_hz <= 0.0
+    ):
         raise DesignError("cutoff_hz", cutoff_hz, "a finite frequency > 0 Hz")
     if topology not in ("sallen-key", "multiple-feedback"):
         raise DesignError("topology", topology, '"sallen-key" or "multiple-feedback"')
@@ -420,15 +466,20 @@ def lowpass_cascade_parts(prefix: str, kind: FilterKind, order: int, cutoff_hz: 
         nxt = node_out if i == len(sections) - 1 else f"{prefix}.n{i}"
         f0 = section.f0_ratio * cutoff_hz
         if section.q is None:
-            parts += real_pole_parts(name, real_pole_resistance(f0, capacitor_f), capacitor_f,
-                                     node, nxt, opamp)
+            parts += real_pole_parts(
+                name, real_pole_resistance(f0, capacitor_f), capacitor_f, node, nxt, opamp
+            )
         elif topology == "sallen-key":
-            parts += sallen_key_parts(name, sallen_key_lowpass(f0, section.q,
-                                                               capacitor_f=capacitor_f),
-                                      node, nxt, opamp)
+            parts += sallen_key_parts(
+                name, sallen_key_lowpass(f0, section.q, capacitor_f=capacitor_f), node, nxt, opamp
+            )
         else:
             parts += multiple_feedback_parts(
-                name, multiple_feedback_lowpass(f0, section.q, capacitor_f=capacitor_f),
-                node, nxt, opamp)
+                name,
+                multiple_feedback_lowpass(f0, section.q, capacitor_f=capacitor_f),
+                node,
+                nxt,
+                opamp,
+            )
         node = nxt
     return tuple(parts)
