@@ -531,6 +531,74 @@ def test_batched_solution_equals_one_frequency_at_a_time() -> None:
         np.testing.assert_allclose(solve_noise(net, [f]).transfer[0], whole.transfer[i], rtol=1e-12)
 
 
+def _mixed_chain() -> Netlist:
+    amp = OpAmpModel(
+        dc_gain=1e6,
+        gbw_hz=10e6,
+        en_v_per_rthz=5e-9,
+        en_corner_hz=10.0,
+        in_plus_a_per_rthz=1e-12,
+        in_minus_a_per_rthz=1e-12,
+    )
+    return Netlist(
+        [
+            VoltageSource("vin", "in", "0"),
+            *lowpass_cascade_parts("a", "butterworth", 8, 20e3, "in", "mid", amp),
+            *lowpass_cascade_parts(
+                "b", "bessel", 5, 5e3, "mid", "out", amp, topology="multiple-feedback"
+            ),
+        ],
+        output="out",
+        signal_input="vin",
+    )
+
+
+def _photodiode() -> Netlist:
+    return Netlist(
+        [
+            CurrentSource("iph", "0", "m"),
+            Resistor("Rsh", "m", "0", 100e6),
+            Capacitor("Cj", "m", "0", 100e-12),
+            ShotNoise("pd.shot", "0", "m", 1e-9),
+            Resistor("RF", "m", "out", 10e6),
+            Capacitor("CF", "m", "out", 1e-12),
+            *noisy_opamp("U1", "0", "m", "out", dc_gain=1e6, gbw_hz=10e6, en_v_per_rthz=1e-8),
+        ],
+        output="out",
+        signal_input="iph",
+    )
+
+
+@pytest.mark.parametrize("build", [_non_inverting, _mixed_chain, _photodiode])
+def test_schur_path_matches_the_stacked_lu(build) -> None:
+    # Both are backward-stable solves of the same system: at each frequency the
+    # transfers agree to rounding relative to the largest transfer there.
+    net = build()
+    f = np.geomspace(1e-2, 1e8, 301)
+    lu = solve_noise(net, f, method="lu")
+    schur = solve_noise(net, f, method="schur")
+    scale = np.abs(lu.transfer).max(axis=1, keepdims=True)
+    assert np.max(np.abs(schur.transfer - lu.transfer) / scale) < 1e-9
+    np.testing.assert_allclose(schur.signal_transfer, lu.signal_transfer, rtol=1e-9, atol=1e-15)
+    assert schur.rms_v() == pytest.approx(lu.rms_v(), rel=1e-9)
+
+
+def test_schur_path_reports_singular_circuits() -> None:
+    net = Netlist(
+        [
+            VoltageSource("vin", "in", "0"),
+            Resistor("R1", "in", "0", 1e3),
+            OpAmp("U1", "in", "0", "out", math.inf, math.inf),
+            Resistor("RL", "out", "0", 1e3),
+        ],
+        output="out",
+    )
+    with pytest.raises(CircuitError, match="singular"):
+        solve_noise(net, FREQS, method="schur")
+    with pytest.raises(DesignError, match="method"):
+        solve_noise(_non_inverting(), FREQS, method="cramer")  # type: ignore[arg-type]
+
+
 def test_solution_shapes_and_lookup() -> None:
     sol = solve_noise(_non_inverting(), FREQS)
     assert sol.source_ids == ("Rs.thermal", "U1.en", "U1.in+", "U1.in-", "RF.thermal", "RG.thermal")

@@ -17,7 +17,9 @@ Meyer and Weber 1971): the transfer from a current source driving from node ``a`
 into node ``b`` is :math:`y_b - y_a` (V/A), and from the voltage source of branch
 ``k`` is :math:`y_k` (V/V). All frequencies are solved at once by
 :func:`numpy.linalg.solve` on the stack of matrices (no Python loop over
-frequency); the stack is processed in chunks to bound memory.
+frequency); the stack is processed in chunks to bound memory. Optionally
+(``method="schur"``) one generalised Schur form of the pencil serves every
+frequency, leaving a triangular solve per frequency.
 
 The noise of each source at the output is its density² times the squared magnitude
 of its transfer; uncorrelated sources add in power.
@@ -36,6 +38,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from typing import Literal
 
 import numpy as np
 from numpy.typing import ArrayLike
@@ -66,8 +69,11 @@ __all__ = [
     "integrate_psd",
 ]
 
-#: Complex entries per chunk of the stacked matrices (2**22 entries ≈ 64 MiB).
-_CHUNK_ENTRIES = 2**22
+#: Complex entries per chunk of the stacked matrices (2**17 entries = 2 MiB): small
+#: enough to stay in cache, which measured faster than one large stack.
+_CHUNK_ENTRIES = 2**17
+#: Rows per block of the Schur path's back substitution (16 measured fastest).
+_SCHUR_BLOCK = 16
 
 
 # ---------------------------------------------------------------------------
@@ -320,7 +326,7 @@ def _diagnose_singular(mna: MnaSystem, frequency_hz: np.ndarray) -> CircuitError
 
 
 def _adjoint_solve(mna: MnaSystem, frequency_hz: np.ndarray, rhs: np.ndarray) -> np.ndarray:
-    """Solve (G + sC)ᵀ y = rhs on every frequency; returns y of shape (F, n)."""
+    """Solve (G + sC)ᵀ y = rhs on every frequency; returns y of shape (n, F)."""
     n = mna.size
     gt, ct = mna.conductance.T, mna.capacitance.T
     chunk = max(1, _CHUNK_ENTRIES // max(1, n * n))
@@ -336,16 +342,56 @@ def _adjoint_solve(mna: MnaSystem, frequency_hz: np.ndarray, rhs: np.ndarray) ->
         if not np.all(np.isfinite(y)):
             raise _diagnose_singular(mna, f)
         out[start : start + chunk] = y
-    return out
+    return out.T
+
+
+def _schur_solve(mna: MnaSystem, frequency_hz: np.ndarray, rhs: np.ndarray) -> np.ndarray:
+    """Solve (G + sC)ᵀ y = rhs on every frequency through one generalised Schur form.
+
+    The complex QZ decomposition Gᵀ = Q·S·Zᴴ, Cᵀ = Q·T·Zᴴ (S, T upper triangular)
+    is computed once; then (S + sT) w = Qᴴ·rhs is a triangular system for every s,
+    solved by back substitution vectorised over the grid (O(n²) per frequency
+    instead of O(n³)), and y = Z·w. Orthogonal transforms and triangular solves are
+    backward stable (Golub & Van Loan, *Matrix Computations*, 4th ed., §7.7.2 and
+    §3.1, from memory); the tests hold it to the stacked LU solve.
+    """
+    from scipy import linalg  # heavy: loaded only on this path
+
+    gt, ct = mna.conductance.T, mna.capacitance.T
+    upper_s, upper_t, q, z = linalg.qz(gt, ct, output="complex")
+    s = 2j * np.pi * frequency_hz
+    n = mna.size
+    diagonal = np.diagonal(upper_s)[:, None] + np.diagonal(upper_t)[:, None] * s[None, :]
+    scale = np.linalg.norm(upper_s) + np.abs(s)[None, :] * np.linalg.norm(upper_t)
+    if np.any(np.abs(diagonal) <= 64 * n * np.finfo(float).eps * scale):
+        bad = np.any(np.abs(diagonal) <= 64 * n * np.finfo(float).eps * scale, axis=0)
+        raise _diagnose_singular(mna, frequency_hz[bad])
+    # Blocked back substitution: rows within a block one by one, the rows above a
+    # block updated by two matrix products (the s factor differs per column).
+    r = np.repeat((q.conj().T @ rhs)[:, None], frequency_hz.size, axis=1)
+    w = np.empty((n, frequency_hz.size), dtype=complex)
+    for high in range(n, 0, -_SCHUR_BLOCK):
+        low = max(0, high - _SCHUR_BLOCK)
+        for i in range(high - 1, low - 1, -1):
+            if i + 1 < high:
+                r[i] -= upper_s[i, i + 1 : high] @ w[i + 1 : high]
+                r[i] -= s * (upper_t[i, i + 1 : high] @ w[i + 1 : high])
+            w[i] = r[i] / diagonal[i]
+        if low > 0:
+            r[:low] -= upper_s[:low, low:high] @ w[low:high]
+            r[:low] -= s * (upper_t[:low, low:high] @ w[low:high])
+    y = z @ w
+    if not np.all(np.isfinite(y)):
+        raise _diagnose_singular(mna, frequency_hz)
+    return y
 
 
 def _transfer_columns(
     mna: MnaSystem, y: np.ndarray, sources: list[tuple[str, str, str, str]]
 ) -> np.ndarray:
-    """Transfers (F, S) from sources given as (kind, name, a, b) to the output."""
-    f = y.shape[0]
-    padded = np.concatenate([y, np.zeros((f, 1), dtype=complex)], axis=1)
-    ground = y.shape[1]
+    """Transfers (F, S) from sources given as (kind, name, a, b), from y of shape (n, F)."""
+    padded = np.concatenate([y, np.zeros((1, y.shape[1]), dtype=complex)], axis=0)
+    ground = y.shape[0]
     plus = np.empty(len(sources), dtype=int)
     minus = np.full(len(sources), ground, dtype=int)
     for j, (kind, name, a, b) in enumerate(sources):
@@ -354,7 +400,7 @@ def _transfer_columns(
         else:
             plus[j] = mna.node_index.get(b, ground)
             minus[j] = mna.node_index.get(a, ground)
-    return padded[:, plus] - padded[:, minus]
+    return (padded[plus] - padded[minus]).T
 
 
 def _density_sq(sources: tuple[NoiseSource, ...], frequency_hz: np.ndarray) -> np.ndarray:
@@ -461,7 +507,9 @@ class NoiseSolution:
         return dict(zip(self.source_ids, np.sqrt(power).tolist(), strict=True))
 
 
-def solve_noise(netlist: Netlist, frequency_hz: ArrayLike) -> NoiseSolution:
+def solve_noise(
+    netlist: Netlist, frequency_hz: ArrayLike, method: Literal["lu", "schur"] = "lu"
+) -> NoiseSolution:
     """Solve a netlist on a frequency grid: every noise transfer and PSD, and the signal gain.
 
     Parameters
@@ -470,6 +518,12 @@ def solve_noise(netlist: Netlist, frequency_hz: ArrayLike) -> NoiseSolution:
         The circuit.
     frequency_hz : array_like, shape (F,)
         Frequencies, Hz (finite, ≥ 0; > 0 where a 1/f source is present).
+    method : {"lu", "schur"}
+        ``"lu"``: the stacked matrices solved by :func:`numpy.linalg.solve`, an LU
+        factorisation per frequency, O(n³) each (the reference). ``"schur"``: one
+        generalised Schur (QZ) form for all frequencies, then a triangular solve per
+        frequency, O(n²) each; several times faster on large grids, loads scipy, and
+        agrees with ``"lu"`` to rounding in the tests.
 
     Returns
     -------
@@ -500,7 +554,12 @@ def solve_noise(netlist: Netlist, frequency_hz: ArrayLike) -> NoiseSolution:
     """
     f = _check_grid(frequency_hz)
     mna = build_mna(netlist)
-    y = _adjoint_solve(mna, f, mna.output_selector())
+    if method == "lu":
+        y = _adjoint_solve(mna, f, mna.output_selector())
+    elif method == "schur":
+        y = _schur_solve(mna, f, mna.output_selector())
+    else:
+        raise DesignError("method", method, '"lu" or "schur"')
     sources = netlist.noise_sources
     columns = [(s.kind, s.part, s.a, s.b) for s in sources]
     signal = None
@@ -518,7 +577,7 @@ def solve_noise(netlist: Netlist, frequency_hz: ArrayLike) -> NoiseSolution:
         frequency_hz=f,
         source_ids=tuple(s.source_id for s in sources),
         units=tuple(s.unit for s in sources),
-        transfer=np.ascontiguousarray(transfer),
+        transfer=transfer,
         source_psd=_density_sq(sources, f) if sources else np.zeros((f.size, 0)),
         signal_input=netlist.signal_input,
         signal_transfer=signal,
