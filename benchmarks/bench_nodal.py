@@ -11,6 +11,9 @@ Butterworth Sallen-Key cascade and a 4th-order Bessel multiple-feedback cascade
 GBW, every resistor noisy. It is not a timed test; run it by hand from the repository root:
 
     python3 benchmarks/bench_nodal.py [--runs N] [--profile]
+
+On a shared machine set OPENBLAS_NUM_THREADS=1: the Schur path's many small
+matrix products slow down several-fold when BLAS threads compete for a busy core.
 """
 
 from __future__ import annotations
