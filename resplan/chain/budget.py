@@ -11,10 +11,43 @@ divided by the gain in front of the entry point to refer it to the sensor:
 Uncorrelated sources add in power. Reference noise is evaluated at the largest
 input the sensor produces: an input V_in sees an error V_in·σ_ref/V_ref, zero at
 zero input.
+
+Contribution ids
+----------------
+Every contribution carries a stable ``id``, ``<place>.<source>``, built by
+:func:`contribution_id`; it is the same in Python (``budget["stages[0].en"]``),
+in the JSON of ``resplan check`` (the ``"id"`` of each contributor) and in the
+report. The place says where the source enters, the source what it is:
+
+=====================  ==========================  ====================================
+place                  source                      contribution
+=====================  ==========================  ====================================
+``sensor``             ``thermal``                 √(4kTR) of the source resistance
+``sensor``             ``noise``                   the sensor's own stated noise
+``stages[i]``          ``en``                      op amp / amplifier input voltage noise
+``stages[i]``          ``in_plus``                 i_n+ into the source resistance
+``stages[i]``          ``in_minus``                i_n− into RF‖RG
+``stages[i]``          ``RF_RG.thermal``           thermal noise of RF‖RG
+``stages[i]``          ``eno``                     output voltage noise, referred by 1/G
+``stages[i]``          ``in``                      amplifier current noise into R_source
+``stages[i]``          ``R.thermal``               thermal noise of an RC filter's R
+``stages[i]``          ``R_eq.thermal``            an active filter's equivalent R
+``stages[i]``          ``<solver source id>``      a netlist-solved stage: the solver's
+                                                   own ids (``R3.thermal``, ``opamp.en``)
+``reference``          ``noise``                   reference noise at the largest input
+``adc``                ``noise``                   converter noise (any way it is quoted)
+``adc``                ``quantisation``            q/√12 when the figure excludes it
+``adc``                ``jitter``                  aperture jitter
+``interference``       ``allowance``               the requirement's interference allowance
+=====================  ==========================  ====================================
+
+``i`` counts the chain's stages from 0 in signal order. Ids are unique within
+a budget; the display ``name`` is for people and may change.
 """
 
 from __future__ import annotations
 
+import difflib
 import math
 from dataclasses import dataclass, field
 from typing import Any
@@ -45,12 +78,44 @@ from .stages import (
     RCFilter,
 )
 
-__all__ = ["Contribution", "Budget", "forward_budget", "KINDS", "DOMINANCE_RATIO"]
+__all__ = [
+    "Contribution",
+    "Budget",
+    "forward_budget",
+    "contribution_id",
+    "KINDS",
+    "DOMINANCE_RATIO",
+]
 
 #: Kinds of contribution.
 KINDS = ("thermal", "sensor", "voltage", "current", "reference", "adc", "quantisation")
 #: A source under 1/5 of the largest adds only ~2 % to the total (common practice, no source).
 DOMINANCE_RATIO = 0.2
+
+
+def contribution_id(place: str, source: str) -> str:
+    """The stable id of a contribution: ``<place>.<source>`` (see the module's table).
+
+    Parameters
+    ----------
+    place : str
+        Where the source enters: ``"sensor"``, ``"stages[i]"``, ``"reference"``,
+        ``"adc"`` or ``"interference"``.
+    source : str
+        What it is within that place, such as ``"en"`` or a netlist solver's
+        source id such as ``"R3.thermal"``.
+
+    Examples
+    --------
+    >>> contribution_id("stages[2]", "R3.thermal")
+    'stages[2].R3.thermal'
+    """
+    return f"{place}.{source}"
+
+
+def stage_place(index: int) -> str:
+    """The place of stage ``index`` in contribution ids: ``"stages[<index>]"``."""
+    return f"stages[{index}]"
 
 
 @dataclass(frozen=True)
@@ -79,6 +144,9 @@ class Contribution:
         White noise bandwidth of its path, Hz.
     note : str
         How the figure was obtained.
+    id : str
+        Stable id, ``<place>.<source>`` (see :func:`contribution_id`), such as
+        ``"stages[0].en"``; unique within a budget.
     """
 
     name: str
@@ -95,6 +163,7 @@ class Contribution:
     responses: tuple = field(default=(), repr=False, compare=False)
     #: DC gain from the sensor to its entry point, V/V.
     gain_in_front: float = 1.0
+    id: str = ""
 
 
 @dataclass(frozen=True)
@@ -122,6 +191,42 @@ class Budget:
     warnings: tuple[str, ...] = field(default_factory=tuple)
     #: The sensor's output range at the ADC (offset included) leaves its input window.
     outside_window: bool = False
+
+    def __post_init__(self) -> None:
+        seen: set[str] = set()
+        for c in self.contributions:
+            if c.id and c.id in seen:
+                raise ValueError(f"two contributions share the id {c.id!r}")
+            seen.add(c.id)
+
+    @property
+    def ids(self) -> tuple[str, ...]:
+        """The contributions' ids, in the budget's order (largest first)."""
+        return tuple(c.id for c in self.contributions)
+
+    def contribution(self, id: str) -> Contribution:
+        """The contribution with this id, such as ``"stages[0].en"``.
+
+        Raises
+        ------
+        KeyError
+            When no contribution has it; the message lists the closest ids.
+        """
+        for c in self.contributions:
+            if c.id == id:
+                return c
+        close = difflib.get_close_matches(str(id), [c.id for c in self.contributions], n=4)
+        hint = f"; closest: {', '.join(close)}" if close else ""
+        raise KeyError(
+            f"no contribution {id!r} in this budget{hint} "
+            f"(all ids: {', '.join(c.id for c in self.contributions)})"
+        )
+
+    def __getitem__(self, id: str) -> Contribution:
+        return self.contribution(id)
+
+    def __contains__(self, id: object) -> bool:
+        return any(c.id == id for c in self.contributions)
 
     @property
     def k_pp(self) -> float:
@@ -260,9 +365,11 @@ class Budget:
                 "dynamic_range_db": req.dynamic_range_db,
             },
             "dominant": [c.name + " (" + c.stage + ")" for c in self.dominant],
+            "dominant_ids": [c.id for c in self.dominant],
             "warnings": list(self.warnings),
             "contributors": [
                 {
+                    "id": c.id,
                     "name": c.name,
                     "stage": c.stage,
                     "kind": c.kind,
@@ -316,8 +423,13 @@ class _Collector:
         gain_in_front: float,
         responses: tuple,
         note: str = "",
+        *,
+        id: str,
     ) -> None:
-        """A density entering after ``gain_in_front`` of gain, filtered by ``responses``."""
+        """A density entering after ``gain_in_front`` of gain, filtered by ``responses``.
+
+        ``id`` is the contribution's stable id (:func:`contribution_id`).
+        """
         if noise.white == 0:
             return
         nb = self.bandwidth(responses, stage)
@@ -336,12 +448,15 @@ class _Collector:
                 note=note,
                 responses=tuple(responses),
                 gain_in_front=gain_in_front,
+                id=id,
             )
         )
 
-    def at_adc(self, name: str, stage: str, kind: str, adc_rms_v: float, note: str) -> None:
+    def at_adc(
+        self, name: str, stage: str, kind: str, adc_rms_v: float, note: str, *, id: str
+    ) -> None:
         self.items.append(
-            Contribution(name, stage, kind, adc_rms_v / self.gain, adc_rms_v, note=note)
+            Contribution(name, stage, kind, adc_rms_v / self.gain, adc_rms_v, note=note, id=id)
         )
 
 
@@ -396,9 +511,18 @@ def forward_budget(
         1.0,
         path,
         f"√(4kTR) at {t_sensor:.2f} K",
+        id=contribution_id("sensor", "thermal"),
     )
     if sensor.noise is not None:
-        c.density("sensor's own noise", sensor.name, "sensor", sensor.noise, 1.0, path)
+        c.density(
+            "sensor's own noise",
+            sensor.name,
+            "sensor",
+            sensor.noise,
+            1.0,
+            path,
+            id=contribution_id("sensor", "noise"),
+        )
 
     for i, stage in enumerate(chain.stages):
         _stage_contributions(c, i, stage, t)
@@ -455,12 +579,16 @@ def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> 
     g_in = chain.gain_before(i)
     path = chain.responses_from(i)
     r_seen = chain.resistance_seen_by(i)
+    place = stage_place(i)
+
+    def cid(source: str) -> str:
+        return contribution_id(place, source)
 
     def thermal(resistance: float) -> NoiseDensity:
         return NoiseDensity(float(thermal_noise_density(resistance, temperature_k)))
 
     if isinstance(stage, NonInvertingStage):
-        c.density("e_n", stage.name, "voltage", stage.en, g_in, path)
+        c.density("e_n", stage.name, "voltage", stage.en, g_in, path, id=cid("en"))
         c.density(
             "i_n+ · R_source",
             stage.name,
@@ -469,6 +597,7 @@ def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> 
             g_in,
             path,
             f"into {r_seen:.4g} Ω",
+            id=cid("in_plus"),
         )
         rp = stage.feedback_parallel_ohm
         if rp > 0:
@@ -481,10 +610,19 @@ def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> 
                 g_in,
                 path,
                 f"into {rp:.4g} Ω",
+                id=cid("in_minus"),
             )
-            c.density("thermal noise of RF‖RG", stage.name, "thermal", thermal(rp), g_in, path)
+            c.density(
+                "thermal noise of RF‖RG",
+                stage.name,
+                "thermal",
+                thermal(rp),
+                g_in,
+                path,
+                id=cid("RF_RG.thermal"),
+            )
     elif isinstance(stage, IntegratedAmplifier):
-        c.density("input noise", stage.name, "voltage", stage.input_noise, g_in, path)
+        c.density("input noise", stage.name, "voltage", stage.input_noise, g_in, path, id=cid("en"))
         if stage.output_noise is not None:
             c.density(
                 "output noise / G",
@@ -493,6 +631,7 @@ def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> 
                 stage.output_noise.scaled(1.0 / stage.gain),
                 g_in,
                 path,
+                id=cid("eno"),
             )
         if stage.current_noise is not None:
             c.density(
@@ -503,6 +642,7 @@ def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> 
                 g_in,
                 path,
                 f"into {r_seen:.4g} Ω",
+                id=cid("in"),
             )
     elif isinstance(stage, RCFilter):
         c.density(
@@ -513,6 +653,7 @@ def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> 
             g_in,
             path,
             "filtered by its own pole (kT/C)",
+            id=cid("R.thermal"),
         )
     elif isinstance(stage, ActiveFilter):
         if stage.noise_resistance_ohm > 0:
@@ -523,9 +664,10 @@ def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> 
                 thermal(stage.noise_resistance_ohm),
                 g_in,
                 path,
+                id=cid("R_eq.thermal"),
             )
         if stage.en is not None:
-            c.density("e_n", stage.name, "voltage", stage.en, g_in, path)
+            c.density("e_n", stage.name, "voltage", stage.en, g_in, path, id=cid("en"))
 
 
 def _reference_contribution(c: _Collector, chain: Chain, band: Band) -> None:
@@ -542,6 +684,7 @@ def _reference_contribution(c: _Collector, chain: Chain, band: Band) -> None:
                 0.0,
                 0.0,
                 note="ratiometric: cancels to first order",
+                id=contribution_id("reference", "noise"),
             )
         )
         return
@@ -557,6 +700,7 @@ def _reference_contribution(c: _Collector, chain: Chain, band: Band) -> None:
         "reference",
         peak_at_adc * sigma_ref / ref.voltage_v,
         f"{sigma_ref * 1e6:.3g} µV rms at the reference, scaled by V_in/V_ref at the largest input",
+        id=contribution_id("reference", "noise"),
     )
 
 
@@ -571,18 +715,26 @@ def _adc_contributions(c: _Collector, chain: Chain, band: Band, warnings: list[s
     post = chain.post_variance_factor()
     post_rms = math.sqrt(post)
     after = "" if post == 1 else f", × {post_rms:.3g} by the digital post-filter"
+    adc_id = contribution_id("adc", "noise")
     own: float
     if isinstance(noise, NoiseAtRate | NoiseTable):
         rms, how = noise.rms_at(adc.output_rate_hz, adc.gain)
         own = rms * post_rms
-        c.at_adc("converter noise", adc.name, "adc", own, how + after)
+        c.at_adc("converter noise", adc.name, "adc", own, how + after, id=adc_id)
     elif isinstance(noise, SnrNoise):
         rms, how = noise.rms(adc.full_scale_range_v, adc.output_rate_hz)
         own = rms * post_rms
-        c.at_adc("converter noise", adc.name, "adc", own, how + after)
+        c.at_adc("converter noise", adc.name, "adc", own, how + after, id=adc_id)
     elif isinstance(noise, TransitionNoise):
         own = noise.lsb_rms * adc.lsb_v * post_rms
-        c.at_adc("transition noise", adc.name, "adc", own, f"{noise.lsb_rms:g} LSB rms" + after)
+        c.at_adc(
+            "transition noise",
+            adc.name,
+            "adc",
+            own,
+            f"{noise.lsb_rms:g} LSB rms" + after,
+            id=adc_id,
+        )
     elif isinstance(noise, InputNoiseDensity):
         if chain.digital is None:
             nb = noise_bandwidth(
@@ -597,13 +749,21 @@ def _adc_contributions(c: _Collector, chain: Chain, band: Band, warnings: list[s
             "adc",
             own,
             f"density integrated over {nb.white_hz:.4g} Hz noise bandwidth",
+            id=adc_id,
         )
     else:  # pragma: no cover - the union is closed
         raise TypeError(type(noise))
     total_sq = own**2
     if not noise.includes_quantisation:
         q = adc.quantisation_rms_v * post_rms
-        c.at_adc("quantisation", adc.name, "quantisation", q, "q/√12 (Bennett 1948)" + after)
+        c.at_adc(
+            "quantisation",
+            adc.name,
+            "quantisation",
+            q,
+            "q/√12 (Bennett 1948)" + after,
+            id=contribution_id("adc", "quantisation"),
+        )
         total_sq += q**2
         if post < 1:
             others = sum(x.adc_rms_v**2 for x in c.items if x.kind != "quantisation")

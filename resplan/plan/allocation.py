@@ -116,7 +116,7 @@ class Plan:
             "f_low_hz": self.f_low_hz,
             "output_rate_hz": self.output_rate_hz,
             "fixed": [
-                {"name": c.name, "stage": c.stage, "kind": c.kind, "rms_v": c.rms_v}
+                {"id": c.id, "name": c.name, "stage": c.stage, "kind": c.kind, "rms_v": c.rms_v}
                 for c in self.fixed
             ],
             "allocations": [a.__dict__.copy() for a in self.allocations],
