@@ -203,8 +203,10 @@ def check(design: str, as_json: bool, ascii_only: bool) -> None:
     """Check a complete design against its requirement: the forward noise budget.
 
     Prints every noise contributor referred to the sensor, the resolution over
-    the sensor span and the ADC range, the requirement, the margin and a verdict.
-    Exit status: 0 meets, 1 does not meet, 2 bad input (one line per problem).
+    the sensor span and the ADC range, the requirement, the margin, every item
+    that fails (noise, each stated interferer, the ADC input window ...) with its
+    figure and its limit, and the verdict. Exit status: 0 every item passes,
+    1 any fails, 2 bad input (one line per problem).
 
     \b
     Examples:
@@ -212,17 +214,20 @@ def check(design: str, as_json: bool, ascii_only: bool) -> None:
       resplan check hive-scale.toml --json | python3 -m json.tool
       resplan check design.toml || echo "review needed"
     """
+    from .chain.verdict import judge_design
     from .designfile.load import check_design
     from .output.budget_text import check_data, format_budget
 
     loaded = load_design_or_exit(design)
     with exit_on_error():
         budget = check_design(loaded)
+        judged = judge_design(loaded, budget)
     if as_json:
-        emit_json(check_data(budget, loaded))
+        emit_json(check_data(budget, loaded, judged))
     else:
-        click.echo(format_budget(budget, loaded, ascii_only=wants_ascii(ascii_only)))
-    sys.exit(EXIT_OK if budget.meets_requirement else EXIT_NOT_MET)
+        text = format_budget(budget, loaded, ascii_only=wants_ascii(ascii_only), judged=judged)
+        click.echo(text)
+    sys.exit(EXIT_OK if judged.meets and budget.requirement is not None else EXIT_NOT_MET)
 
 
 @main.command()

@@ -24,6 +24,7 @@ from typing import Any
 
 from ..chain.budget import Budget
 from ..chain.design import Design
+from ..chain.verdict import Verdict, judge_design
 from ..units.formatting import (
     ascii_units,
     format_bits,
@@ -34,7 +35,14 @@ from ..units.formatting import (
     format_temperature,
 )
 
-__all__ = ["format_budget", "verdict", "check_data", "json_safe", "engineering_figures"]
+__all__ = [
+    "format_budget",
+    "verdict",
+    "failure_lines",
+    "check_data",
+    "json_safe",
+    "engineering_figures",
+]
 
 
 def _v(value: float | None) -> str:
@@ -53,36 +61,51 @@ def _margin(bits: float | None) -> str:
     return f"{bits:+.2f} bits"
 
 
-def verdict(budget: Budget) -> str:
-    """The one-line verdict: MEETS … with N bits to spare / DOES NOT MEET … short by ….
+def verdict(budget: Budget, judged: Verdict | None = None) -> str:
+    """The one-line verdict: MEETS … with N bits to spare / DOES NOT MEET …, N items fail.
+
+    Parameters
+    ----------
+    budget : Budget
+    judged : Verdict, optional
+        The design's verdict (:func:`resplan.chain.verdict.judge_design`); without it
+        the budget alone is judged (noise and the ADC range).
 
     Examples
     --------
-    >>> class B:  # a stand-in with the two fields the verdict reads
-    ...     meets_requirement, margin_bits, overloaded, adc_range_used = True, 1.584, False, 0.5
-    >>> verdict(B())
+    >>> from resplan.chain.verdict import Failure, Verdict
+    >>> class B:  # a stand-in with the fields the line reads
+    ...     requirement, margin_bits = object(), 1.584
+    >>> verdict(B(), Verdict((), ("noise",)))
     'MEETS the requirement with 1.58 bits to spare'
+    >>> verdict(B(), Verdict((Failure("interferer[0]", 2e-3, 1e-6, "V", "..."),), ()))
+    'DOES NOT MEET the requirement: 1 item fails (interferer[0])'
     """
-    met = budget.meets_requirement
-    margin = budget.margin_bits
-    if met is None:
+    if budget.requirement is None:
         return "NO REQUIREMENT given: nothing to judge"
-    if getattr(budget, "outside_window", False):
-        return (
-            "DOES NOT MEET the requirement: the sensor output, offset included, leaves the "
-            "ADC input window (see the warnings)"
-        )
-    if budget.overloaded:
-        return (
-            "DOES NOT MEET the requirement: the sensor span overloads the ADC "
-            f"({format_percent(budget.adc_range_used)} of its range)"
-        )
-    if met:
+    if judged is None:
+        from ..chain.verdict import judge
+
+        judged = judge(budget)
+    if judged.meets:
+        margin = budget.margin_bits
         spare = "∞ bits" if math.isinf(margin) else f"{margin:.2f} bits"
         return f"MEETS the requirement with {spare} to spare"
-    if math.isinf(margin):
-        return "DOES NOT MEET the requirement: the interference allowance alone uses up the budget"
-    return f"DOES NOT MEET the requirement: short by {-margin:.2f} bits"
+    n = len(judged.failures)
+    if judged.failed_items == ("noise",):
+        margin = budget.margin_bits
+        if math.isinf(margin):
+            return (
+                "DOES NOT MEET the requirement: the interference allowance alone uses up the budget"
+            )
+        return f"DOES NOT MEET the requirement: short by {-margin:.2f} bits"
+    items = ", ".join(judged.failed_items)
+    return f"DOES NOT MEET the requirement: {n} item{'s fail' if n > 1 else ' fails'} ({items})"
+
+
+def failure_lines(judged: Verdict) -> list[str]:
+    """One line per failure: the item, then its message."""
+    return [f"  - {f.item}: {f.message}" for f in judged.failures]
 
 
 def engineering_figures(budget: Budget) -> dict[str, Any] | None:
@@ -124,7 +147,13 @@ def _table(rows: list[list[str]], right: set[int], indent: str = "  ") -> list[s
     return out
 
 
-def format_budget(budget: Budget, design: Design | None = None, *, ascii_only: bool = False) -> str:
+def format_budget(
+    budget: Budget,
+    design: Design | None = None,
+    *,
+    ascii_only: bool = False,
+    judged: Verdict | None = None,
+) -> str:
     """The budget as an aligned text report, ending with the verdict line.
 
     Parameters
@@ -136,7 +165,11 @@ def format_budget(budget: Budget, design: Design | None = None, *, ascii_only: b
         Adds the title, file, digest and the notes made while loading.
     ascii_only : bool
         Write µ, Ω, √Hz, ° … in ASCII (``u``, ``ohm``, ``rtHz``, ``deg``).
+    judged : Verdict, optional
+        The verdict to print; judged from the design (or the budget alone) when omitted.
     """
+    if judged is None:
+        judged = _judge(budget, design)
     lines: list[str] = []
     req = budget.requirement
     if design is not None:
@@ -299,7 +332,10 @@ def format_budget(budget: Budget, design: Design | None = None, *, ascii_only: b
         lines.append("Warnings:")
         lines += [f"  - {w}" for w in budget.warnings]
     lines.append("")
-    lines.append(verdict(budget))
+    if judged.failures:
+        lines.append("Failures:")
+        lines += failure_lines(judged)
+    lines.append(verdict(budget, judged))
     text = "\n".join(lines)
     return ascii_units(text) if ascii_only else text
 
@@ -335,16 +371,34 @@ def interferer_check(budget: Budget, design: Design | None):
     return check_interferer(design.chain(), frequency, amplitude, budget.requirement)
 
 
-def check_data(budget: Budget, design: Design | None = None) -> dict[str, Any]:
+def _judge(budget: Budget, design: Design | None) -> Verdict:
+    from ..chain.verdict import judge
+
+    if design is not None and design.is_complete:
+        return judge_design(design, budget)
+    return judge(budget)
+
+
+def check_data(
+    budget: Budget, design: Design | None = None, judged: Verdict | None = None
+) -> dict[str, Any]:
     """What ``resplan check --json`` prints: the budget's data plus the design's identity.
 
     Keys are those of :meth:`resplan.chain.budget.Budget.to_dict` (SI values, the key
-    names the unit) plus ``verdict``, ``engineering`` (or None), ``interferer``
+    names the unit) plus ``verdict``, ``failures`` (``[{item, value, limit, unit,
+    message}]``, SI values), ``checked`` (every item judged), ``meets_requirement``
+    (true only when ``failures`` is empty), ``engineering`` (or None), ``interferer``
     (the stated interferer through the chain, or None), and ``design``
     (``source``, ``sha256``, ``meta``, ``notes``). Values are JSON-safe (see :func:`json_safe`).
     """
+    if judged is None:
+        judged = _judge(budget, design)
     data = budget.to_dict()
-    data["verdict"] = verdict(budget)
+    data["verdict"] = verdict(budget, judged)
+    if budget.requirement is not None:
+        data["meets_requirement"] = judged.meets
+    data["failures"] = [f.to_dict() for f in judged.failures]
+    data["checked"] = list(judged.checked)
     data["engineering"] = engineering_figures(budget)
     alias = interferer_check(budget, design)
     data["interferer"] = None if alias is None else alias.to_dict()

@@ -1,0 +1,105 @@
+"""The one verdict: every item that fails enters one list that text, JSON and exit code read.
+
+Every design here is INVENTED.
+"""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pytest
+from click.testing import CliRunner
+
+from resplan.chain.verdict import Failure, Verdict, judge_design, noise_exceeds, range_exceeds
+from resplan.cli import main
+from resplan.designfile.examples import example_text
+from resplan.designfile.load import check_design, loads_design
+
+#: An invented accelerometer channel: 4th-order Bessel, 18-bit SAR at 100 kHz, 20 kHz band,
+#: and an 82 kHz resonance of 12 mV rms at the sensor that aliases to 18 kHz. Its noise
+#: meets 90 dB; the resonance does not.
+ACCELEROMETER = """
+[meta]
+title = "Accelerometer channel (invented)"
+
+[requirement]
+span = "10 V"
+dynamic_range = "90 dB"
+f_low = "1 Hz"
+f_high = "20 kHz"
+interferer = { frequency = "82 kHz", amplitude = "12 mV" }
+
+[sensor]
+name = "accelerometer (invented)"
+resistance = "100 ohm"
+bipolar = true
+
+[[stages]]
+type = "active_filter"
+name = "anti-alias Bessel (invented)"
+response = "bessel"
+order = 4
+cutoff = "40 kHz"
+gain = 0.8
+noise_resistance = "4 kohm"
+en = "8 nV/√Hz"
+
+[adc]
+name = "18-bit SAR (invented)"
+architecture = "sar"
+bits = 18
+full_scale_range = "8.192 V"
+sample_rate = "100 kHz"
+snr = "99 dB"
+snr_sample_rate = "100 kHz"
+"""
+
+
+@pytest.fixture
+def runner():
+    return CliRunner()
+
+
+def test_verdict_meets_only_without_failures():
+    assert Verdict((), ("noise",)).meets
+    f = Failure("noise", 2.0, 1.0, "V", "over")
+    assert not Verdict((f,), ("noise",)).meets
+    assert Verdict((f,), ()).to_dict()["failures"] == [
+        {"item": "noise", "value": 2.0, "limit": 1.0, "unit": "V", "message": "over"}
+    ]
+
+
+def test_number_checks_take_arrays():
+    # Monte Carlo trials are judged at once: one boolean per trial.
+    assert noise_exceeds(np.array([0.5, 1.0, 1.5]), 1.0).tolist() == [False, False, True]
+    assert range_exceeds(np.array([0.9, 1.1])).tolist() == [False, True]
+
+
+def test_accelerometer_interferer_fails_the_verdict(runner, tmp_path):
+    design = loads_design(ACCELEROMETER, "accelerometer.toml")
+    budget = check_design(design)
+    assert budget.meets_requirement  # the noise alone passes ...
+    judged = judge_design(design, budget)
+    assert judged.failed_items == ("interferer[0]",)  # ... the resonance does not
+    path = tmp_path / "accelerometer.toml"
+    path.write_text(ACCELEROMETER, encoding="utf-8")
+    text = runner.invoke(main, ["check", str(path)])
+    assert text.exit_code == 1
+    assert "interferer[0]" in text.stdout and "82.0 kHz" in text.stdout
+    assert text.stdout.strip().splitlines()[-1].startswith("DOES NOT MEET")
+    result = runner.invoke(main, ["check", "--json", str(path)])
+    assert result.exit_code == 1
+    data = json.loads(result.stdout)
+    assert data["meets_requirement"] is False
+    assert [f["item"] for f in data["failures"]] == ["interferer[0]"]
+    failure = data["failures"][0]
+    assert failure["unit"] == "V" and failure["value"] > failure["limit"]
+
+
+def test_meeting_example_has_no_failures(runner, tmp_path):
+    path = tmp_path / "h.toml"
+    path.write_text(example_text("hive-scale"), encoding="utf-8")
+    data = json.loads(runner.invoke(main, ["check", "--json", str(path)]).stdout)
+    assert data["failures"] == [] and data["meets_requirement"] is True
+    assert {"noise", "input_window"} <= set(data["checked"])
