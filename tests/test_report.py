@@ -374,3 +374,18 @@ def test_embedded_example_report(tmp_path):
     text, _ = pdf_text(path)
     assert design.sha256 in text
     assert design.meta.title in text
+
+
+def test_docs_carry_the_report_formula_table():
+    # One table per fact: docs/formulas.md holds the report's table verbatim.
+    from pathlib import Path
+
+    from resplan.output.report.formulas import DOCS_MARKERS, formulas_markdown
+
+    docs = (Path(__file__).parents[1] / "docs" / "formulas.md").read_text(encoding="utf-8")
+    start, end = docs.index(DOCS_MARKERS[0]), docs.index(DOCS_MARKERS[1])
+    held = docs[start : end + len(DOCS_MARKERS[1])] + "\n"
+    assert held == formulas_markdown(), (
+        "docs/formulas.md is out of step with resplan/output/report/formulas.py: paste "
+        "formulas_markdown() between the markers"
+    )

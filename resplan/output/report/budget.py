@@ -1,0 +1,112 @@
+"""Section 4: the forward noise budget, every contributor, and the stated interferer."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from ...chain.budget import Budget
+from ...chain.design import Design
+from ...units.formatting import format_db, format_percent, format_si
+from ..budget_text import interferer_check
+from .style import GREY, SECTION_TITLES
+from .writer import Writer
+
+
+def budget_section(w: Writer, design: Design, budget: Budget | None) -> list:
+    out = [w.p(SECTION_TITLES[3], w.h1)]
+    if budget is None:
+        names = ", ".join(f"{p.field_path} ({p.kind})" for p in design.open_parts)
+        out.append(
+            w.p(
+                "The forward budget needs every part given; these parts are open: "
+                + names
+                + ". Their limits are in section 3."
+            )
+        )
+        return out
+    out.append(
+        w.p(
+            "Every contributor, largest first. RMS (V rms) over the chain's noise band, referred "
+            "to the sensor (RTI) and at the ADC input; share of the total noise power; white "
+            "density referred to the sensor and its 1/f corner where the source is a density; "
+            "the white noise bandwidth of its path.",
+            w.small,
+        )
+    )
+    rows: list[list[Any]] = [
+        [
+            "Contributor",
+            "Kind",
+            "RMS at sensor",
+            "RMS at ADC",
+            "Share",
+            "Density (RTI)",
+            "1/f corner",
+            "Noise BW",
+            "Note",
+        ]
+    ]
+    for c in budget.contributions:
+        name = w.p(
+            f"{w.text(c.name)}<br/><font color='{GREY}' size='6.5'>{w.text(c.stage)}</font>",
+            w.cell,
+            markup=True,
+        )
+        rows.append(
+            [
+                name,
+                c.kind,
+                format_si(c.rms_v, "V"),
+                format_si(c.adc_rms_v, "V"),
+                format_percent(c.share),
+                "—" if c.density_v_per_rthz is None else format_si(c.density_v_per_rthz, "V/√Hz"),
+                "—" if c.corner_hz is None else format_si(c.corner_hz, "Hz"),
+                "—" if c.noise_bandwidth_hz is None else format_si(c.noise_bandwidth_hz, "Hz"),
+                w.p(c.note, w.cell_grey) if c.note else "",
+            ]
+        )
+    rows.append(
+        [
+            "Total (root sum of squares)",
+            "",
+            format_si(budget.total_rms_v, "V"),
+            format_si(budget.total_adc_rms_v, "V"),
+            format_percent(1.0),
+            "",
+            "",
+            "",
+            "",
+        ]
+    )
+    out.append(
+        w.table(
+            rows,
+            [31, 17, 14, 14, 15, 19, 13, 13, 34],
+            total_row=True,
+            align_right=(2, 3, 4, 5, 6, 7),
+            font_size=7,
+        )
+    )
+    out.append(
+        w.p(
+            f"Gain from the sensor to the ADC {format_si(budget.gain, 'V/V')}; ADC full-scale "
+            f"range {format_si(budget.adc_full_scale_v, 'V')}; reference: {budget.reference_note}.",
+            w.small,
+        )
+    )
+    alias = interferer_check(budget, design)
+    if alias is not None:
+        verdict_text = "within it" if alias.within_allowance else "it EXCEEDS the allowance"
+        out.append(
+            w.p(
+                f"Stated interferer (interference, not noise): {format_si(alias.amplitude_v, 'V')} "
+                f"rms at {format_si(alias.frequency_hz, 'Hz')} at the sensor lands at "
+                f"{format_si(alias.alias_hz, 'Hz')} after sampling; the analog path attenuates "
+                f"it by {format_db(alias.analog_db)} and the digital filter by "
+                f"{format_db(alias.digital_db)}, leaving {format_si(alias.residue_v, 'V')} rms "
+                f"against {format_si(alias.allowed_v, 'V')} rms allowed ({alias.allowed_reason}): "
+                f"{verdict_text}.",
+                w.small,
+            )
+        )
+    return out

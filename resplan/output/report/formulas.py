@@ -1,0 +1,171 @@
+"""Section 6: every formula the numbers rest on, with its published source.
+
+:data:`FORMULAS` is the one table of them. The report prints it, and
+``docs/formulas.md`` carries it verbatim between two markers, written by
+:func:`formulas_markdown`; tests/test_report.py fails when the two drift apart.
+"""
+
+from __future__ import annotations
+
+from .style import SECTION_TITLES
+from .writer import Writer
+
+#: (quantity, formula, published source) of every formula the numbers rest on.
+FORMULAS: tuple[tuple[str, str, str], ...] = (
+    (
+        "Thermal noise of a resistor",
+        "e = √(4kTR); k = 1.380649 × 10⁻²³ J/K (exact)",
+        "J. B. Johnson, Phys. Rev. 32, 97 (1928); H. Nyquist, Phys. Rev. 32, 110 (1928); "
+        "k from the SI (2019), CODATA 2018",
+    ),
+    (
+        "Shot noise of a DC current",
+        "i = √(2qI); q = 1.602176634 × 10⁻¹⁹ C (exact)",
+        "W. Schottky, Ann. Phys. 57, 541 (1918)",
+    ),
+    (
+        "1/f + white density and its integral",
+        "e(f)² = e_w²(1 + f_c/f); v² = e_w²(f_c·ln(f_H/f_L) + f_H − f_L)",
+        "C. D. Motchenbacher and J. A. Connelly, Low-Noise Electronic System Design, "
+        "Wiley (1993), ch. 1",
+    ),
+    (
+        "Current noise into a resistance",
+        "e = i_n·R at each amplifier input",
+        "Motchenbacher and Connelly, ch. 1–2",
+    ),
+    (
+        "Non-inverting stage, referred to its input",
+        "e² = e_n² + (i_n+·R_s)² + (i_n−·RF‖RG)² + 4kT·(RF‖RG)",
+        "Motchenbacher and Connelly, ch. 2",
+    ),
+    (
+        "Integrated amplifier, referred to its input",
+        "e² = e_in² + (e_out/G)² + (i_n·R_s)²",
+        "Motchenbacher and Connelly, ch. 2 (two-stage model)",
+    ),
+    (
+        "Noise of an RC filter",
+        "v = √(kT/C), independent of R",
+        "standard result; Motchenbacher and Connelly, ch. 1",
+    ),
+    (
+        "Referring to the sensor; uncorrelated sources",
+        "σ² = σ₁² + σ₂²/G₁² + σ₃²/(G₁G₂)² + …",
+        "Motchenbacher and Connelly, ch. 2 (cascaded stages)",
+    ),
+    (
+        "Equivalent noise bandwidth",
+        "ENBW = ∫₀^∞ |H(f)|² df / |H(0)|²",
+        "definition; Motchenbacher and Connelly, ch. 1",
+    ),
+    (
+        "Butterworth ENBW",
+        "ENBW = f_c·(π/2n)/sin(π/2n); RC: (π/2)·f_c",
+        "closed form of ∫ df/(1 + (f/f_c)^2n), Gradshteyn and Ryzhik 3.241.2",
+    ),
+    (
+        "Butterworth attenuation",
+        "A(f) = 10·log10(1 + (f/f_c)^2n) dB",
+        "S. Butterworth, Wireless Engineer 7, 536 (1930) (from memory)",
+    ),
+    (
+        "Bessel low-pass",
+        "H(s) = a₀/θ_n(s), θ_n the reverse Bessel polynomial",
+        "W. E. Thomson, Proc. IEE 96, 487 (1949)",
+    ),
+    (
+        "Sinc decimation filter",
+        "|H(f)|² = [sin(πfR/f_s)/(R·sin(πf/f_s))]^2k",
+        "E. B. Hogenauer, IEEE Trans. ASSP 29, 155 (1981)",
+    ),
+    (
+        "ENBW of a digital filter",
+        "∫₀^(f_s/2) |H|² df = (f_s/2)·Σ h[n]²",
+        "Parseval's theorem: A. V. Oppenheim and R. W. Schafer, Discrete-Time Signal "
+        "Processing, 3rd ed., §2.9",
+    ),
+    (
+        "Noise of a sampled chain, aliases included",
+        "σ² = ∫ S(f)·|H_a(f)|²·|H_d(f)|² df, |H_d| periodic in f_s (folded into 0…f_s/2)",
+        "sampling theorem: C. E. Shannon, Proc. IRE 37, 10 (1949) (from memory); periodic "
+        "digital response, Oppenheim and Schafer",
+    ),
+    (
+        "Where an interferer aliases, and what is left of it",
+        "f_alias = |f_i − m·f_s| in 0…f_s/2; residue = A_i·10^(−(A_analog + A_digital)/20)",
+        "sampling theorem (as above); attenuation from the responses' closed forms",
+    ),
+    (
+        "Quantisation noise",
+        "σ_q = q/√12, q = FSR/2^N",
+        "W. R. Bennett, Bell Syst. Tech. J. 27, 446 (1948)",
+    ),
+    (
+        "Ideal SNR; ENOB",
+        "SNR = 6.02N + 1.76 dB; ENOB = (SINAD − 1.76)/6.02",
+        "IEEE Std 1241-2010",
+    ),
+    (
+        "Noise from a data-sheet SNR",
+        "σ = (FSR/(2√2))·10^(−SNR/20)",
+        "IEEE Std 1241-2010 (full-scale sine definition of SNR)",
+    ),
+    (
+        "Oversampling; delta-sigma quantisation",
+        "gain 10·log10(OSR) dB, OSR = f_s/(2f_B); SQNR = 6.02N + 1.76 − 10·log10(π^2L/(2L+1)) "
+        "+ (2L+1)·10·log10(OSR)",
+        "R. Schreier and G. C. Temes, Understanding Delta-Sigma Data Converters, "
+        "IEEE Press/Wiley (2005), ch. 1 and 4",
+    ),
+    (
+        "Reference noise",
+        "error = V_in·σ_ref/V_ref, at the largest input; cancels when ratiometric",
+        "follows from the converter's transfer function code = V_in/V_ref (standard result)",
+    ),
+    (
+        "Coverage factor",
+        "k_pp = 2√2·erf⁻¹(P): 6.58 at 99.9 %, 6.0 at 99.73 %",
+        "Gaussian coverage, JCGM 100:2008 (GUM), annex G",
+    ),
+    (
+        "Resolution figures",
+        "effective bits = log2(S/σ); noise-free bits = log2(S/(k_pp·σ)); "
+        "noise-free counts = S/(k_pp·σ)",
+        "W. Kester (ed.), Data Conversion Handbook, Newnes (2005), ch. 5",
+    ),
+    (
+        "Dynamic range",
+        "DR = 20·log10((S/(2√2))/σ) dB",
+        "IEEE Std 1241-2010 (full-scale sine)",
+    ),
+    (
+        "Allowed noise",
+        "σ_allowed = S/(counts·k_pp), less the interference allowance in power",
+        "inverse of the noise-free count definition above",
+    ),
+)
+
+
+def formulas_section(w: Writer) -> list:
+    out = [w.p(SECTION_TITLES[5], w.h1)]
+    rows = [["Quantity", "Formula", "Source"]]
+    rows += [list(row) for row in FORMULAS]
+    out.append(w.table(rows, [38, 62, 70]))
+    return out
+
+
+#: The lines ``docs/formulas.md`` wraps the generated table in.
+DOCS_MARKERS = ("<!-- formula table: start -->", "<!-- formula table: end -->")
+
+
+def formulas_markdown() -> str:
+    """The formula table as a Markdown table, markers included, for ``docs/formulas.md``."""
+
+    def cell(text: str) -> str:
+        return text.replace("|", "\\|")
+
+    lines = [DOCS_MARKERS[0], "| quantity | formula | source |", "|---|---|---|"]
+    lines += [f"| {cell(q)} | {cell(f)} | {cell(s)} |" for q, f, s in FORMULAS]
+    lines.append(DOCS_MARKERS[1])
+    return "\n".join(lines) + "\n"

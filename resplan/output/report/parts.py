@@ -1,0 +1,172 @@
+"""How each part of a design is described in the chain table (section 2)."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from ...chain.design import Design, OpenPart
+from ...units.formatting import format_db, format_si, format_temperature
+from .writer import rms
+
+
+def _density(nd: Any, unit: str) -> str:
+    if nd is None:
+        return "—"
+    text = format_si(nd.white, unit)
+    if nd.corner_hz:
+        text += f" (1/f corner {format_si(nd.corner_hz, 'Hz')})"
+    return text
+
+
+def describe_part(part: Any) -> tuple[str, str, str]:
+    """(name, kind, the figures the budget uses) of one part of a design, for a table."""
+    from ...chain.converter import ADC
+    from ...chain.stages import (
+        ActiveFilter,
+        IntegratedAmplifier,
+        NonInvertingStage,
+        RCFilter,
+        Reference,
+        Sensor,
+    )
+
+    if isinstance(part, OpenPart):
+        known = "; ".join(
+            f"{k} = {v:g}" if isinstance(v, float) else f"{k} = {v}" for k, v in part.known.items()
+        )
+        return (
+            part.name,
+            f"open {part.kind}",
+            "to be planned" + (f"; known: {known}" if known else ""),
+        )
+    if isinstance(part, Sensor):
+        figures = (
+            f"span {format_si(part.span_v, 'V')} ({'bipolar' if part.bipolar else 'unipolar'}); "
+            f"source resistance {format_si(part.resistance_ohm, 'Ω')}"
+        )
+        if part.noise is not None:
+            figures += f"; own noise {_density(part.noise, 'V/√Hz')}"
+        if part.temperature_k is not None:
+            figures += f"; at {format_temperature(part.temperature_k)}"
+        return part.name, "sensor", figures
+    if isinstance(part, NonInvertingStage):
+        figures = (
+            f"gain {format_si(part.gain, 'V/V')} (RF {format_si(part.rf_ohm, 'Ω')}, RG "
+            f"{'—' if part.rg_ohm is None else format_si(part.rg_ohm, 'Ω')}); "
+            f"e_n {_density(part.en, 'V/√Hz')}; i_n+ {_density(part.in_plus, 'A/√Hz')}"
+        )
+        if part.in_minus is not None:
+            figures += f"; i_n− {_density(part.in_minus, 'A/√Hz')}"
+        if part.gbw_hz is not None:
+            figures += f"; GBW {format_si(part.gbw_hz, 'Hz')}"
+        return part.name, "op-amp stage", figures
+    if isinstance(part, IntegratedAmplifier):
+        figures = (
+            f"gain {format_si(part.gain, 'V/V')}; input noise {_density(part.input_noise, 'V/√Hz')}"
+        )
+        if part.output_noise is not None:
+            figures += f"; output noise {_density(part.output_noise, 'V/√Hz')}"
+        if part.current_noise is not None:
+            figures += f"; current noise {_density(part.current_noise, 'A/√Hz')}"
+        if part.bandwidth_hz is not None:
+            figures += f"; bandwidth {format_si(part.bandwidth_hz, 'Hz')}"
+        return part.name, "integrated amplifier", figures
+    if isinstance(part, RCFilter):
+        return (
+            part.name,
+            "RC filter",
+            (
+                f"R {format_si(part.resistance_ohm, 'Ω')}, C {format_si(part.capacitance_f, 'F')}; "
+                f"corner {format_si(part.cutoff_hz, 'Hz')}"
+            ),
+        )
+    if isinstance(part, ActiveFilter):
+        figures = (
+            f"{part.response}, order {part.order}, corner {format_si(part.cutoff_hz, 'Hz')}; "
+            f"gain {format_si(part.gain, 'V/V')}"
+        )
+        if part.noise_resistance_ohm:
+            figures += f"; equivalent noise resistance {format_si(part.noise_resistance_ohm, 'Ω')}"
+        if part.en is not None:
+            figures += f"; e_n {_density(part.en, 'V/√Hz')}"
+        return part.name, "active filter", figures
+    if isinstance(part, Reference):
+        figures = f"{format_si(part.voltage_v, 'V')}"
+        if part.ratiometric:
+            figures += "; ratiometric (excitation from the reference)"
+        else:
+            figures += f"; noise {_density(part.noise, 'V/√Hz')}"
+        if part.filter_cutoff_hz is not None:
+            figures += f"; filter {format_si(part.filter_cutoff_hz, 'Hz')}"
+        return part.name, "reference", figures
+    if isinstance(part, ADC):
+        figures = (
+            f"{part.architecture}, {part.bits} bits, full-scale range "
+            f"{format_si(part.full_scale_range_v, 'V')} peak to peak; sample rate "
+            f"{format_si(part.sample_rate_hz, 'Hz')}; output rate "
+            f"{format_si(part.output_rate_hz, 'Hz')}; gain {format_si(part.gain, 'V/V')}"
+        )
+        return part.name, "ADC", figures
+    return str(getattr(part, "name", part)), type(part).__name__, ""
+
+
+def describe_adc_noise(adc: Any) -> str:
+    """How the ADC's own noise is given, and the conditions it holds at."""
+    from ...chain.converter import (
+        ADC,
+        InputNoiseDensity,
+        NoiseAtRate,
+        NoiseTable,
+        SnrNoise,
+        TransitionNoise,
+    )
+
+    if not isinstance(adc, ADC):
+        return ""
+    n = adc.noise
+    gain = "" if getattr(n, "gain", None) is None else f" at gain {format_si(n.gain, 'V/V')}"
+    if isinstance(n, NoiseAtRate):
+        text = (
+            f"{rms(n.rms_v)} at its input, quoted at {format_si(n.data_rate_hz, 'Hz')} data "
+            f"rate{gain}, quantisation included"
+        )
+        if n.scale_with_rate:
+            text += "; carried to other data rates as white noise (√ODR)"
+        return text + "."
+    if isinstance(n, NoiseTable):
+        rows = ", ".join(f"{format_si(r, 'Hz')}: {rms(v)}" for r, v in n.rows)
+        return f"table of rms against data rate{gain} ({rows}); quantisation included."
+    if isinstance(n, SnrNoise):
+        at = "" if n.sample_rate_hz is None else f" at {format_si(n.sample_rate_hz, 'Hz')}"
+        return (
+            f"from an SNR of {format_db(n.snr_db)}{at} for a full-scale sine; "
+            "quantisation included."
+        )
+    if isinstance(n, TransitionNoise):
+        return f"transition noise {n.lsb_rms:g} LSB rms per sample; quantisation q/√12 added."
+    if isinstance(n, InputNoiseDensity):
+        return (
+            f"input-referred density {_density(n.density, 'V/√Hz')}, flat over the first "
+            "Nyquist zone; quantisation q/√12 added."
+        )
+    return ""
+
+
+def describe_digital(design: Design) -> str:
+    """The digital filter stages in the order they run."""
+    from ...noise.responses import IdealLowpass, SincFilter
+
+    parts = []
+    for stage in design.digital.stages if design.digital is not None else ():
+        if isinstance(stage, SincFilter):
+            what = "average" if stage.order == 1 else f"sinc^{stage.order}"
+            parts.append(
+                f"{what} of {stage.length} at {format_si(stage.input_rate_hz, 'Hz')} → "
+                f"{format_si(stage.output_rate_hz, 'Hz')}"
+            )
+        elif isinstance(stage, IdealLowpass):
+            parts.append(
+                f"band limit {format_si(stage.cutoff_hz, 'Hz')} at "
+                f"{format_si(stage.input_rate_hz, 'Hz')}"
+            )
+    return "; then ".join(parts)

@@ -1,0 +1,206 @@
+"""The title block and section 1, the one-page summary."""
+
+from __future__ import annotations
+
+from typing import Any
+
+from ... import __version__
+from ...chain.budget import Budget
+from ...chain.design import Design
+from ...units.formatting import (
+    format_bits,
+    format_counts,
+    format_db,
+    format_percent,
+    format_si,
+    format_temperature,
+)
+from .safety import SUMMARY_CAUTION
+from .style import GREY, MEETS, SECTION_TITLES, SHORT
+from .writer import (
+    Writer,
+    after_allowance,
+    coverage_text,
+    k_text,
+    maybe_hz,
+    rms,
+    signed_bits,
+    today,
+)
+
+
+def title_block(w: Writer, design: Design) -> list:
+    from reportlab.platypus import Spacer
+
+    meta = design.meta
+    rows = [
+        ["Project", meta.project or "—"],
+        ["Revision", meta.revision or "—"],
+        ["Author", meta.author or "—"],
+        ["Date", meta.date or f"{today()} (date of this report; the design gives none)"],
+        ["Design file", design.source or "— (built in code)"],
+        [
+            "SHA-256 of the design file",
+            w.p(design.sha256, w.mono) if design.sha256 else "not recorded (no design file)",
+        ],
+        ["Written by", f"resplan {__version__} on {today()}"],
+    ]
+    return [
+        w.p(meta.title or "Untitled design", w.title),
+        w.p("Noise and resolution requirements appendix", w.subtitle),
+        w.table(rows, [45, 125], header=False, label_column=True),
+        Spacer(1, 10),
+    ]
+
+
+def _requirement_line(design: Design) -> str:
+    req = design.requirement
+    if req.noise_free_counts is not None:
+        target = (
+            f"{format_counts(req.noise_free_counts)} noise-free counts "
+            f"({format_bits(req.required_noise_free_bits)}) over "
+            f"{format_si(req.span_v, 'V')}"
+        )
+    else:
+        target = (
+            f"{format_db(req.dynamic_range_db)} dynamic range over {format_si(req.span_v, 'V')}"
+        )
+    statement = req.description or "no statement given"
+    return f"{statement} — {target}"
+
+
+def _verdict(w: Writer, budget: Budget | None, plan: Any) -> Any:
+    if budget is not None and budget.meets_requirement is not None:
+        meets = budget.meets_requirement
+        margin = budget.margin_bits
+        if meets:
+            text = f"Meets the requirement, margin {signed_bits(margin)}."
+        else:
+            why = " (the ADC overloads)" if budget.overloaded else ""
+            text = f"Does not meet the requirement{why}, margin {signed_bits(margin)}."
+        colour = MEETS if meets else SHORT
+    elif plan is not None:
+        feasible = bool(getattr(plan, "feasible", False))
+        text = (
+            "The plan is feasible: limits for every open part are in section 3."
+            if feasible
+            else "The plan is infeasible: the fixed parts alone exceed the allowed noise."
+        )
+        colour = MEETS if feasible else SHORT
+    else:
+        text = "No verdict: the design has open parts and no plan was computed."
+        colour = GREY
+    return w.p(
+        f'<font color="{colour}"><b>{w.text(text)}</b></font>',
+        w.h2,
+        markup=True,
+    )
+
+
+def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any) -> list:
+    req = design.requirement
+    out = [w.p(SECTION_TITLES[0], w.h1), _verdict(w, budget, plan)]
+    rows: list[list[Any]] = [["Requirement", _requirement_line(design)]]
+    if budget is not None:
+        b = budget
+        rows += [
+            [
+                "Verdict",
+                ("meets" if b.meets_requirement else "does not meet")
+                + f" the requirement; margin {signed_bits(b.margin_bits)}",
+            ],
+            [
+                "Noise-free resolution, sensor span",
+                f"{format_bits(b.noise_free_bits)} · "
+                f"{format_counts(b.noise_free_counts)} counts over {format_si(b.span_v, 'V')}",
+            ],
+            ["Effective resolution, sensor span", format_bits(b.effective_bits)],
+            [
+                "Noise-free resolution, ADC range",
+                f"{format_bits(b.noise_free_bits_adc_range)} · "
+                f"{format_counts(b.noise_free_counts_adc_range)} counts over "
+                f"{format_si(b.adc_full_scale_v, 'V')}",
+            ],
+            ["Effective resolution, ADC range", format_bits(b.effective_bits_adc_range)],
+            ["ADC range used by the sensor span", format_percent(b.adc_range_used)],
+            [
+                "Total noise",
+                f"{rms(b.total_rms_v)} at the sensor · {rms(b.total_adc_rms_v)} at the ADC input",
+            ],
+            ["Allowed noise", f"{rms(b.allowed_rms_v)} at the sensor, {after_allowance(req)}"],
+            [
+                "Margin",
+                f"{signed_bits(b.margin_bits)} of noise-free resolution "
+                "(log2 of allowed over actual noise)",
+            ],
+            ["Coverage", coverage_text(b.coverage, b.k_pp)],
+            [
+                "SNR",
+                f"{format_db(b.snr_db)} (full-scale sine of the ADC range against the total "
+                "noise at its input)",
+            ],
+            [
+                "Dynamic range",
+                f"{format_db(b.dynamic_range_db)} (full-scale sine over the sensor span)",
+            ],
+            ["ADC alone", f"ENOB {format_bits(b.adc_enob)} (its own noise and quantisation)"],
+            ["Gain, sensor to ADC", format_si(b.gain, "V/V")],
+            [
+                "Band",
+                f"f_L = {format_si(b.f_low_hz, 'Hz')} (bounds the 1/f noise); top of the signal "
+                f"band {maybe_hz(b.f_high_hz)}; the noise band is what the filters pass",
+            ],
+            [
+                "Temperature",
+                f"electronics {format_temperature(b.temperature_k)}; sensor "
+                f"{format_temperature(b.sensor_temperature_k)}",
+            ],
+            ["Output data rate", format_si(b.output_rate_hz, "Hz")],
+            [
+                "Dominant contributors",
+                "; ".join(f"{c.name} ({c.stage})" for c in b.dominant) or "none",
+            ],
+        ]
+        if req.engineering_per_volt and req.engineering_unit:
+            unit = req.engineering_unit
+            per_v = req.engineering_per_volt
+            text = (
+                f"noise {format_si(b.total_rms_v * per_v, unit)} rms; noise-free step "
+                f"{format_si(b.k_pp * b.total_rms_v * per_v, unit)} at k_pp = {k_text(b.k_pp)}"
+            )
+            if req.noise_free_counts:
+                step = req.span_v * per_v / req.noise_free_counts
+                text += f"; required step {format_si(step, unit)}"
+            rows.append(["In the measurand", text])
+    else:
+        rows += [
+            ["Forward budget", "not computed: the design has open parts (section 3 sizes them)"],
+            [
+                "Allowed noise",
+                f"{rms(req.allowed_noise_rms_v)} at the sensor, {after_allowance(req)}",
+            ],
+            ["Coverage", coverage_text(req.coverage, req.k_pp)],
+            [
+                "Band",
+                f"f_L = {format_si(design.band.f_low_hz, 'Hz')} (bounds the 1/f noise); top of "
+                f"the signal band {maybe_hz(design.band.f_high_hz)}",
+            ],
+            ["Temperature", f"electronics {format_temperature(design.temperature_k)}"],
+            [
+                "Open parts",
+                "; ".join(f"{p.name} ({p.field_path}, {p.kind})" for p in design.open_parts),
+            ],
+        ]
+        if plan is not None:
+            rows += [
+                ["Fixed by given parts", rms(plan.fixed_rms_v) + " at the sensor"],
+                ["Left for the open parts", rms(plan.remaining_rms_v) + " at the sensor"],
+            ]
+            if getattr(plan, "output_rate_hz", None):
+                rows.append(["Output data rate", format_si(plan.output_rate_hz, "Hz")])
+    out.append(w.table(rows, [55, 115], header=False, label_column=True))
+    if budget is not None and budget.warnings:
+        out.append(w.p("Warnings from the budget:", w.h2))
+        out += w.bullet_items(list(budget.warnings))
+    out.append(w.p(SUMMARY_CAUTION, w.small))
+    return out
