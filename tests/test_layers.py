@@ -23,6 +23,7 @@ RANKS = {
     "chain": 3,
     "plan": 4,
     "designfile": 4,
+    "spread": 4,
     "output": 5,
     "cli": 6,
     "__main__": 7,

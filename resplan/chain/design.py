@@ -8,6 +8,7 @@ needs every part given; ``plan`` works with any mix.
 
 from __future__ import annotations
 
+from collections.abc import Callable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
 
@@ -17,6 +18,7 @@ from .converter import ADC
 from .requirement import Requirement
 from .signal_chain import ROOM_TEMPERATURE_K, Band, Chain
 from .stages import AnalogStage, Reference, Sensor
+from .tolerance import Spread
 
 __all__ = ["Meta", "OpenPart", "Design", "PART_KINDS"]
 
@@ -121,6 +123,13 @@ class Design:
         Conversions and assumptions made while reading the design (a peak-to-peak
         figure divided by its stated factor, a range taken from the reference ...),
         for reports.
+    spreads : tuple of Spread
+        Figures that vary (:mod:`resplan.chain.tolerance`); every other value is typical.
+    yield_required : float or None
+        Fraction of boards that must meet the requirement, for Monte Carlo runs.
+    variant : callable or None
+        ``variant({field: SI value, ...})`` → this design with those fields changed,
+        re-read as the design file would be (set by the design-file reader).
     """
 
     meta: Meta
@@ -137,6 +146,11 @@ class Design:
     weights: dict[str, float] = field(default_factory=dict)
     alias_interferer: tuple[float, float] | None = None
     notes: tuple[str, ...] = ()
+    spreads: tuple[Spread, ...] = ()
+    yield_required: float | None = None
+    variant: Callable[[Mapping[str, float]], Design] | None = field(
+        default=None, repr=False, compare=False
+    )
 
     @property
     def open_parts(self) -> tuple[OpenPart, ...]:

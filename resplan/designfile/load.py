@@ -49,6 +49,7 @@ from .converter import (
 )
 from .models import STAGE_TYPES, DesignFile, MetaTable, PlanTable, design_schema
 from .parts import TableReader, read_requirement, read_sensor, read_stage
+from .spreads import split_spreads, variant_maker
 from .structure import (
     MissingField,
     UnknownField,
@@ -156,6 +157,10 @@ def design_from_mapping(
         Every problem found, one per line, each naming the field, the value and
         what was expected.
     """
+    try:
+        data, spreads, yield_required, spread_notes = split_spreads(data)
+    except DesignErrors as err:
+        raise DesignErrors(with_source(e, source) for e in err.errors) from None
     model, structure, reported = validate_structure(data)
     r = TableReader(source)
     meta_t = model.meta or MetaTable()
@@ -224,7 +229,10 @@ def design_from_mapping(
         sha256=sha256,
         weights=weights,
         alias_interferer=interferer,
-        notes=tuple(r.notes),
+        notes=tuple(r.notes) + spread_notes,
+        spreads=spreads,
+        yield_required=yield_required,
+        variant=variant_maker(data, spreads, lambda d: design_from_mapping(d, source, sha256)),
     )
     if design.is_complete:
         try:
