@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from functools import cached_property
 
 from ..errors import DesignError
 from ..noise.bandwidth import DigitalPath, noise_bandwidth
@@ -104,17 +105,52 @@ class Chain:
         t = self.sensor.temperature_k
         return self.temperature_k if t is None else t
 
+    # Per-stage figures of the whole chain, each from one pass over the stages and kept
+    # (the chain is frozen), so that a chain of n stages costs O(n), not O(n²) or O(n³).
+
+    @cached_property
+    def _gains_before(self) -> tuple[float, ...]:
+        """DC gain at the input of every stage and at the ADC (n + 1 values), V/V."""
+        gains = [1.0]
+        for stage in self.stages:
+            gains.append(gains[-1] * stage.gain)
+        return tuple(gains)
+
+    @cached_property
+    def _resistances_seen(self) -> tuple[float, ...]:
+        """DC source resistance at the input of every stage and at the ADC, Ω (one pass)."""
+        r = self.sensor.resistance_ohm
+        out = [r]
+        for stage in self.stages:
+            r = stage.output_resistance_ohm + (r if stage.output_resistance_ohm else 0.0)
+            out.append(r)
+        return tuple(out)
+
+    @cached_property
+    def _responses(self) -> tuple[tuple[AnalogLowpass, ...], ...]:
+        """Analog responses of every stage as it sits in the chain."""
+        out = []
+        for index, stage in enumerate(self.stages):
+            if isinstance(stage, RCFilter):
+                r_total = stage.resistance_ohm + self._resistances_seen[index]
+                cutoff = 1.0 / (2.0 * math.pi * r_total * stage.capacitance_f)
+                out.append((AnalogLowpass("rc", 1, cutoff),))
+            else:
+                out.append(tuple(stage.responses))
+        return tuple(out)
+
+    @cached_property
+    def _suffixes(self) -> dict[int, tuple[AnalogLowpass, ...]]:
+        return {}
+
     def gain_before(self, index: int) -> float:
         """DC gain from the sensor to the input of stage ``index``, V/V."""
-        g = 1.0
-        for stage in self.stages[:index]:
-            g *= stage.gain
-        return g
+        return self._gains_before[max(0, min(index, len(self.stages)))]
 
     @property
     def total_gain(self) -> float:
         """DC gain from the sensor to the ADC input, V/V."""
-        return self.gain_before(len(self.stages))
+        return self._gains_before[-1]
 
     def stage_responses(self, index: int) -> tuple[AnalogLowpass, ...]:
         """Analog responses of stage ``index`` as it sits in the chain.
@@ -124,18 +160,14 @@ class Chain:
         f_c = 1/(2π(R + R_source)C); the other stages' responses do not depend on
         what drives them (their inputs are taken as high-impedance).
         """
-        stage = self.stages[index]
-        if isinstance(stage, RCFilter):
-            r_total = stage.resistance_ohm + self.resistance_seen_by(index)
-            return (AnalogLowpass("rc", 1, 1.0 / (2.0 * math.pi * r_total * stage.capacitance_f)),)
-        return stage.responses
+        return self._responses[index]
 
     def responses_from(self, index: int) -> tuple[AnalogLowpass, ...]:
         """Analog responses from stage ``index`` (inclusive) to the ADC."""
-        out: list[AnalogLowpass] = []
-        for j in range(index, len(self.stages)):
-            out.extend(self.stage_responses(j))
-        return tuple(out)
+        cache = self._suffixes
+        if index not in cache:
+            cache[index] = tuple(r for rs in self._responses[index:] for r in rs)
+        return cache[index]
 
     def resistance_seen_by(self, index: int) -> float:
         """DC source resistance at the input of stage ``index``, Ω.
@@ -144,10 +176,7 @@ class Chain:
         between; an active stage's output resets it to zero. A filter capacitor's
         shunting at high frequency is neglected, which overstates current noise.
         """
-        r = self.sensor.resistance_ohm
-        for stage in self.stages[:index]:
-            r = stage.output_resistance_ohm + (r if stage.output_resistance_ohm else 0.0)
-        return r
+        return self._resistances_seen[max(0, min(index, len(self.stages)))]
 
     @property
     def post_stages(self) -> tuple:

@@ -37,7 +37,6 @@ from ..errors import DesignError
 from ..noise.bandwidth import DigitalPath
 from ..noise.responses import IdealLowpass, SincFilter
 from ..units.formatting import format_si
-from ..units.parse import parse_db
 from .models import AdcTable, DigitalTable, ReferenceTable, RequirementTable
 from .parts import TableReader, put_known
 
@@ -360,7 +359,7 @@ def _adc_noise(r: TableReader, t: AdcTable, gain: float | None) -> Any:
             rows = [(a, b / k) for a, b in rows]
         return r.build(p, NoiseTable, tuple(rows), noise_gain)
     if form == "snr":
-        snr = r.parse(parse_db, t.snr, f"{p}.snr")
+        snr = r.level_db(t.snr, f"{p}.snr")
         if snr is None:
             return None
         at = r.q(t.snr_sample_rate, "frequency", f"{p}.snr_sample_rate", minimum="> 0")

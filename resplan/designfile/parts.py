@@ -46,6 +46,13 @@ from ..chain.stages import (
 from ..errors import DesignError
 from ..units.formatting import format_si
 from ..units.parse import DIMENSIONS, parse_any, parse_db, parse_percent, parse_quantity
+from ..units.ranges import (
+    RANGES,
+    count_problem,
+    coverage_problem,
+    level_db_problem,
+    range_problem,
+)
 from .models import (
     ActiveFilterTable,
     AmplifierTable,
@@ -176,6 +183,10 @@ class TableReader:
         x = self.parse(parse_quantity, value, dimension, path)
         if x is None:
             return None
+        problem = range_problem(x, dimension, zero=minimum != "> 0")
+        if problem is not None:
+            self.bad(path, value, problem)
+            return None
         if _below(x, minimum):
             unit = DIMENSIONS[dimension].si_unit
             self.bad(path, value, f"{what} {minimum}{' ' + unit if unit else ''}")
@@ -201,8 +212,23 @@ class TableReader:
         except DesignError:
             self.bad(path, value, what)
             return None
+        if range_problem(x, "dimensionless") is not None:
+            ranged = what if "2^40" in what else f"{what}, from {RANGES['dimensionless'].text}"
+            self.bad(path, value, ranged)
+            return None
         if _below(x, minimum):
             self.bad(path, value, what)
+            return None
+        return x
+
+    def level_db(self, value: Any, path: str) -> float | None:
+        """Read a level in dB, checked against :data:`resplan.units.ranges.LEVEL_DB_RANGE`."""
+        x = self.parse(parse_db, value, path)
+        if x is None:
+            return None
+        problem = level_db_problem(x)
+        if problem is not None:
+            self.bad(path, value, problem)
             return None
         return x
 
@@ -272,7 +298,11 @@ def read_requirement(
         read = r.parse(parse_any, t.capacity, f"{p}.capacity")
         if read is not None:
             capacity, capacity_unit = read
-            if not capacity > 0 or not _unit_text(t.capacity):
+            if (
+                not capacity > 0
+                or not _unit_text(t.capacity)
+                or range_problem(capacity, "any") is not None
+            ):
                 r.bad(
                     f"{p}.capacity", t.capacity, 'a full scale > 0 with its unit, such as "200 kg"'
                 )
@@ -288,19 +318,20 @@ def read_requirement(
     counts = dr = None
     unit_shown = _unit_text(t.capacity) if capacity is not None else ""
     if form == "noise_free_counts":
-        counts = r.number(t.noise_free_counts, f"{p}.noise_free_counts", "a count ≥ 1")
-        if counts is not None and counts < 1:
-            r.bad(f"{p}.noise_free_counts", t.noise_free_counts, "a count ≥ 1")
+        what = count_problem(0.0)
+        counts = r.number(t.noise_free_counts, f"{p}.noise_free_counts", what)
+        if counts is not None and count_problem(counts) is not None:
+            r.bad(f"{p}.noise_free_counts", t.noise_free_counts, what)
             counts = None
     elif form == "noise_free_bits":
         bits = r.number(
             t.noise_free_bits,
             f"{p}.noise_free_bits",
-            "a number of bits from 0 to 64",
+            "a number of bits from 0 to 40",
             minimum="≥ 0",
         )
-        if bits is not None and bits > 64:
-            r.bad(f"{p}.noise_free_bits", t.noise_free_bits, "a number of bits from 0 to 64")
+        if bits is not None and bits > 40:  # 2^40 counts, the largest count accepted
+            r.bad(f"{p}.noise_free_bits", t.noise_free_bits, "a number of bits from 0 to 40")
         elif bits is not None:
             counts = 2.0**bits
     elif form == "resolution":
@@ -321,20 +352,32 @@ def read_requirement(
                 )
             elif not res > 0:
                 r.bad(f"{p}.resolution", t.resolution, "a resolution > 0")
+            elif range_problem(res, "any") is not None:
+                r.bad(f"{p}.resolution", t.resolution, range_problem(res, "any"))
             elif capacity is not None:
                 counts = capacity / res
                 if counts < 1:
                     r.bad(f"{p}.resolution", t.resolution, f"a resolution at most {t.capacity}")
                     counts = None
+                elif count_problem(counts) is not None:
+                    r.bad(
+                        f"{p}.resolution",
+                        t.resolution,
+                        f"a resolution giving at most 2^40 counts of {t.capacity}",
+                    )
+                    counts = None
                 else:
                     unit_shown = _unit_text(t.resolution)
     elif form == "dynamic_range":
-        dr = r.parse(parse_db, t.dynamic_range, f"{p}.dynamic_range")
+        dr = r.level_db(t.dynamic_range, f"{p}.dynamic_range")
         if dr is not None and not dr > 0:
             r.bad(f"{p}.dynamic_range", t.dynamic_range, "a dynamic range > 0 dB")
             dr = None
 
     read = r.parse(parse_percent, t.coverage, f"{p}.coverage") if t.coverage is not None else None
+    if read is not None and coverage_problem(read) is not None:
+        r.bad(f"{p}.coverage", t.coverage, coverage_problem(read))
+        read = None
     coverage = DEFAULT_COVERAGE if read is None else read
     interference = r.q(t.interference, "voltage", f"{p}.interference", minimum="≥ 0", default=0.0)
 
