@@ -9,7 +9,7 @@ and write a requirements appendix. Everything inside is SI; see
 # The one place the version is written; pyproject.toml reads it from here.
 __version__ = "0.1.0"
 
-from .chain.budget import Budget, Contribution, forward_budget
+from .chain.budget import Budget, Contribution, contribution_id, forward_budget
 from .chain.converter import (
     ADC,
     InputNoiseDensity,
@@ -17,6 +17,19 @@ from .chain.converter import (
     NoiseTable,
     SnrNoise,
     TransitionNoise,
+)
+from .chain.hand import (
+    amplifier_input_density,
+    cascade_input_noise,
+    coverage_factor,
+    effective_bits_from_rms,
+    noise_free_bits_from_rms,
+    non_inverting_input_density,
+    oversampling_bits,
+    oversampling_gain_db,
+    oversampling_ratio,
+    refer_through_gains,
+    reference_noise_at_input,
 )
 from .chain.requirement import Requirement
 from .chain.signal_chain import Band, Chain
@@ -31,6 +44,7 @@ from .chain.stages import (
 )
 from .errors import ChainError, DesignError, DesignErrors, ResplanError
 from .noise.bandwidth import DigitalPath, NoiseBandwidth, integrate_psd, noise_bandwidth
+from .noise.physics import CoverageProbability, coverage_for_factor, peak_to_peak_factor
 from .noise.responses import AnalogLowpass, IdealLowpass, SincFilter
 
 __all__ = [
@@ -42,6 +56,7 @@ __all__ = [
     "Chain",
     "ChainError",
     "Contribution",
+    "CoverageProbability",
     "DesignError",
     "DesignErrors",
     "DigitalPath",
@@ -61,7 +76,21 @@ __all__ = [
     "SnrNoise",
     "TransitionNoise",
     "Sensor",
+    "amplifier_input_density",
+    "cascade_input_noise",
+    "contribution_id",
+    "coverage_factor",
+    "coverage_for_factor",
+    "effective_bits_from_rms",
     "forward_budget",
     "integrate_psd",
     "noise_bandwidth",
+    "noise_free_bits_from_rms",
+    "non_inverting_input_density",
+    "oversampling_bits",
+    "oversampling_gain_db",
+    "oversampling_ratio",
+    "peak_to_peak_factor",
+    "refer_through_gains",
+    "reference_noise_at_input",
 ]

@@ -31,6 +31,7 @@ __all__ = [
     "root_sum_square",
     "peak_to_peak_factor",
     "coverage_for_factor",
+    "CoverageProbability",
     "quantisation_noise_rms",
     "ideal_snr_db",
     "enob_from_sinad",
@@ -281,6 +282,31 @@ def _check_coverage(coverage: float) -> float:
     return float(coverage)
 
 
+class CoverageProbability(float):
+    """A coverage probability that remembers the peak-to-peak factor it came from.
+
+    :func:`coverage_for_factor` returns one, so a factor stated as k_pp (6.6, say)
+    comes back from :func:`peak_to_peak_factor` exactly as stated instead of
+    after a round trip through erf and its inverse. It is a float everywhere else.
+
+    Examples
+    --------
+    >>> p = CoverageProbability(0.999, 6.6)
+    >>> p.k_pp, round(p, 4)
+    (6.6, 0.999)
+    """
+
+    k_pp: float
+
+    def __new__(cls, probability: float, k_pp: float) -> CoverageProbability:
+        self = super().__new__(cls, probability)
+        self.k_pp = float(k_pp)
+        return self
+
+    def __reduce__(self):
+        return (CoverageProbability, (float(self), self.k_pp))
+
+
 def peak_to_peak_factor(coverage: float) -> float:
     r"""Peak-to-peak factor k_pp of Gaussian noise for a coverage probability.
 
@@ -307,6 +333,9 @@ def peak_to_peak_factor(coverage: float) -> float:
     >>> round(peak_to_peak_factor(0.999), 3)
     6.581
     """
+    if isinstance(coverage, CoverageProbability):
+        _check_coverage(float(coverage))
+        return coverage.k_pp
     p = _check_coverage(coverage)
     return 2.0 * NormalDist().inv_cdf(0.5 * (1.0 + p))
 
@@ -321,17 +350,23 @@ def coverage_for_factor(factor: float) -> float:
 
     Returns
     -------
-    float
-        P = erf(k_pp / (2√2)).
+    CoverageProbability
+        P = erf(k_pp / (2√2)), a float that keeps ``k_pp`` so that
+        :func:`peak_to_peak_factor` gives back exactly the factor stated.
 
     Examples
     --------
     >>> round(coverage_for_factor(6.0), 5)
     0.9973
+    >>> peak_to_peak_factor(coverage_for_factor(6.6))
+    6.6
     """
     if not (math.isfinite(factor) and factor > 0):
         raise DesignError("coverage_factor", factor, "a peak-to-peak factor > 0")
-    return math.erf(factor / (2.0 * math.sqrt(2.0)))
+    p = math.erf(factor / (2.0 * math.sqrt(2.0)))
+    if not p < 1.0:
+        raise DesignError("coverage_factor", factor, "a peak-to-peak factor whose coverage is < 1")
+    return CoverageProbability(p, factor)
 
 
 def quantisation_noise_rms(full_scale_range_v: ArrayLike, bits: ArrayLike) -> np.ndarray:
