@@ -103,3 +103,73 @@ def test_meeting_example_has_no_failures(runner, tmp_path):
     data = json.loads(runner.invoke(main, ["check", "--json", str(path)]).stdout)
     assert data["failures"] == [] and data["meets_requirement"] is True
     assert {"noise", "input_window"} <= set(data["checked"])
+
+
+HIVE_INTERFERERS = """
+[[requirement.interferers]]
+name = "mains pickup (invented)"
+mains = ["50 Hz", "60 Hz"]
+tolerance = "1 %"
+harmonics = 3
+amplitude = ["20 µV", "5 µV", "10 µV"]
+
+[[requirement.interferers]]
+name = "hum tone (invented)"
+frequency = "25 Hz"
+amplitude = "1 µV"
+
+[[requirement.interferers]]
+name = "switching hash (invented)"
+spectrum_file = "hash.csv"
+"""
+
+
+def _with_interferers(extra: str) -> str:
+    text = example_text("hive-scale")
+    i = text.index("[sensor]")
+    return text[:i] + extra + "\n" + text[i:]
+
+
+def test_interferers_as_engineers_state_them(runner, tmp_path):
+    (tmp_path / "hash.csv").write_text(
+        "frequency,density\n10 kHz,1 µV/√Hz\n1e6,1e-7\n", encoding="utf-8"
+    )
+    path = tmp_path / "hive.toml"
+    path.write_text(_with_interferers(HIVE_INTERFERERS), encoding="utf-8")
+    result = runner.invoke(main, ["check", "--json", str(path)])
+    data = json.loads(result.stdout)
+    kinds = [(x["item"], x["kind"]) for x in data["interferers"]]
+    assert kinds == [
+        ("interferer[0]", "mains"),
+        ("interferer[1]", "tone"),
+        ("interferer[2]", "broadband"),
+    ]
+    assert len(data["interferers"][0]["components"]) == 6  # 3 harmonics × 2 systems
+    assert [f["item"] for f in data["failures"]] == ["interferer[2]"]
+    assert result.exit_code == 1
+    text = runner.invoke(main, ["check", str(path)]).stdout
+    assert "worst at 49.5 Hz" in text and "interferer[2]" in text
+
+
+@pytest.mark.parametrize(
+    "entry, field",
+    [
+        ('frequency = "1 kHz"\nmains = "50 Hz"\namplitude = "1 mV"', "interferers[0].mains"),
+        (
+            'mains = "50 Hz"\nharmonics = 3\namplitude = ["1 mV", "2 mV"]',
+            "interferers[0].amplitude",
+        ),
+        ('mains = "50 Hz"\namplitude = "1 mV"\ntolerance = "150 %"', "interferers[0].tolerance"),
+        ('frequency = "1 kHz"', "interferers[0].amplitude"),
+        ('spectrum_file = "missing.csv"', "interferers[0].spectrum_file"),
+        ('spectrum = [["1 kHz", "1 µV/√Hz"], ["2 kHz"]]', "interferers[0].spectrum[1]"),
+        ('frequency = "-1 kHz"\namplitude = "1 mV"', "interferers[0].frequency"),
+    ],
+)
+def test_bad_interferer_is_one_line_exit_2(runner, tmp_path, entry, field):
+    path = tmp_path / "bad.toml"
+    path.write_text(_with_interferers("[[requirement.interferers]]\n" + entry), encoding="utf-8")
+    result = runner.invoke(main, ["check", str(path)])
+    assert result.exit_code == 2
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1 and field in lines[0], lines

@@ -119,6 +119,10 @@ class Design:
         Allocation weights by part name, from the design file.
     alias_interferer : tuple of (frequency_hz, rms_v) or None
         An interferer the anti-alias filter must suppress, at the sensor.
+    interferers : tuple
+        Every stated interferer (:mod:`resplan.chain.interference`: tones, mains
+        pickup, spectra), ``alias_interferer`` first when it is stated; each is an
+        item of the verdict.
     notes : tuple of str
         Conversions and assumptions made while reading the design (a peak-to-peak
         figure divided by its stated factor, a range taken from the reference ...),
@@ -145,6 +149,7 @@ class Design:
     sha256: str = ""
     weights: dict[str, float] = field(default_factory=dict)
     alias_interferer: tuple[float, float] | None = None
+    interferers: tuple = ()
     notes: tuple[str, ...] = ()
     spreads: tuple[Spread, ...] = ()
     yield_required: float | None = None

@@ -13,8 +13,9 @@ Items (stable strings, the same in Python, JSON and the report):
 ``input_window``    the sensor span needs more than the ADC range (value: the
                     fraction used, limit 1), or its output, offset included,
                     leaves the ADC input window (value and limit in V)
-``interferer[i]``   residue of the i-th stated interferer against its allowance,
-                    V rms at the sensor
+``interferer[i]``   residue of the i-th stated interferer (a tone, mains pickup
+                    at its worst frequency, a spectrum) through the whole chain
+                    against its allowance, V rms at the sensor
 ==================  ==========================================================
 
 The checks on numbers (:func:`noise_exceeds`, :func:`range_exceeds`) are pure
@@ -30,8 +31,9 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from .interference import Residue
+
 if TYPE_CHECKING:  # pragma: no cover
-    from .alias import AliasCheck
     from .budget import Budget
     from .design import Design
     from .signal_chain import Chain
@@ -95,10 +97,14 @@ class Verdict:
         In the order the checks ran; empty when everything passes.
     checked : tuple of str
         Every item that was checked, failed or not.
+    interference : tuple of Residue
+        Every stated interferer through the chain, for the outputs to show.
     """
 
     failures: tuple[Failure, ...] = ()
     checked: tuple[str, ...] = ()
+    #: Every stated interferer through the chain, failed or not (for the outputs).
+    interference: tuple[Residue, ...] = ()
 
     @property
     def meets(self) -> bool:
@@ -219,30 +225,30 @@ def _input_window(
     )
 
 
-def _interferers(checks: tuple[AliasCheck, ...], out: list[Failure], checked: list[str]) -> None:
-    for i, c in enumerate(checks):
-        item = f"interferer[{i}]"
-        checked.append(item)
-        if c.within_allowance:
+def _interferers(residues: tuple[Residue, ...], out: list[Failure], checked: list[str]) -> None:
+    for r in residues:
+        checked.append(r.item)
+        if r.within_allowance:
             continue
-        out.append(
-            Failure(
-                item,
-                c.residue_v,
-                c.allowed_v,
-                "V",
-                f"interferer {_si(c.amplitude_v, 'V')} rms at {_si(c.frequency_hz, 'Hz')} "
-                f"lands at {_si(c.alias_hz, 'Hz')} with {_si(c.residue_v, 'V')} rms left "
-                f"at the sensor, over the {_si(c.allowed_v, 'V')} rms allowed "
-                f"({c.allowed_reason})",
-            )
-        )
+        out.append(Failure(r.item, r.residue_v, r.allowed_v, "V", _residue_message(r)))
+
+
+def _residue_message(r: Residue) -> str:
+    if r.kind == "broadband":
+        what = f"{r.name}: out-of-band spectrum"
+    else:
+        worst = r.worst
+        what = f"{r.name}: {_si(worst.amplitude_v, 'V')} rms at {_si(worst.nominal_hz, 'Hz')}"
+    return (
+        f"{what} lands {r.lands} with {_si(r.residue_v, 'V')} rms left at the sensor, over "
+        f"the {_si(r.allowed_v, 'V')} rms allowed ({r.allowed_reason})"
+    )
 
 
 def judge(
     budget: Budget,
     chain: Chain | None = None,
-    interferers: tuple[AliasCheck, ...] = (),
+    interferers: tuple[Residue, ...] = (),
 ) -> Verdict:
     """The verdict of a budget, its chain and the interferers checked through it.
 
@@ -253,8 +259,9 @@ def judge(
         window is checked).
     chain : Chain, optional
         The chain the budget belongs to (names the input window's edges).
-    interferers : tuple of AliasCheck
-        Each stated interferer through the chain (:func:`resplan.chain.alias.check_interferer`).
+    interferers : tuple of Residue
+        Each stated interferer through the chain
+        (:func:`resplan.chain.interference.interference_residues`).
 
     Returns
     -------
@@ -265,17 +272,29 @@ def judge(
     _noise(budget, failures, checked)
     _interferers(tuple(interferers), failures, checked)
     _input_window(budget, chain, failures, checked)
-    return Verdict(tuple(failures), tuple(checked))
+    return Verdict(tuple(failures), tuple(checked), tuple(interferers))
 
 
-def interferer_checks(design: Design, budget: Budget) -> tuple[AliasCheck, ...]:
+def stated_interferers(design: Design) -> tuple:
+    """The design's interferers (a design built in Python may give only ``alias_interferer``)."""
+    if design.interferers:
+        return tuple(design.interferers)
+    if design.alias_interferer is not None:
+        from .interference import Tone
+
+        frequency, amplitude = design.alias_interferer
+        return (Tone(frequency, amplitude, "stated interferer"),)
+    return ()
+
+
+def interferer_checks(design: Design, budget: Budget) -> tuple[Residue, ...]:
     """Every interferer the design states, through its chain."""
-    if design.alias_interferer is None or budget.requirement is None:
+    stated = stated_interferers(design)
+    if not stated or budget.requirement is None:
         return ()
-    from .alias import check_interferer
+    from .interference import interference_residues
 
-    frequency, amplitude = design.alias_interferer
-    return (check_interferer(design.chain(), frequency, amplitude, budget.requirement),)
+    return interference_residues(design.chain(), stated, budget.requirement, design.band.f_low_hz)
 
 
 def judge_design(design: Design, budget: Budget) -> Verdict:

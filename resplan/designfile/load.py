@@ -47,6 +47,7 @@ from .converter import (
     read_digital,
     read_reference,
 )
+from .interference import read_interferers
 from .models import STAGE_TYPES, DesignFile, MetaTable, PlanTable, design_schema
 from .parts import TableReader, read_requirement, read_sensor, read_stage
 from .spreads import split_spreads, variant_maker
@@ -185,12 +186,10 @@ def design_from_mapping(
     adc = read_adc(r, model.adc, reference, model.reference)
     digital = read_digital(r, model.digital, adc)
     band = read_band(r, model.requirement, digital, adc)
+    interferers = read_interferers(r, model.requirement, source)
     interferer = None
-    if model.requirement.interferer is not None:
-        it = model.requirement.interferer
-        f = r.q(it.frequency, "frequency", "requirement.interferer.frequency", minimum="> 0")
-        a = r.q(it.amplitude, "voltage", "requirement.interferer.amplitude", minimum="≥ 0")
-        interferer = None if f is None or a is None else (f, a)
+    if model.requirement.interferer is not None and interferers:
+        interferer = (interferers[0].frequency_hz, interferers[0].amplitude_v)
     parts = [
         (f"stages[{i}]", s.name or f"stage {i + 1}", bool(s.open))
         for i, s in enumerate(model.stages or [])
@@ -229,6 +228,7 @@ def design_from_mapping(
         sha256=sha256,
         weights=weights,
         alias_interferer=interferer,
+        interferers=interferers,
         notes=tuple(r.notes) + spread_notes,
         spreads=spreads,
         yield_required=yield_required,

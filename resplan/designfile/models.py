@@ -31,6 +31,7 @@ __all__ = [
     "Text",
     "MetaTable",
     "InterfererTable",
+    "InterferenceEntry",
     "RequirementTable",
     "SensorTable",
     "StageTable",
@@ -107,6 +108,46 @@ class InterfererTable(_Table):
     )
 
 
+class InterferenceEntry(_Table):
+    """One stated interferer at the sensor: a tone, mains pickup, or an out-of-band spectrum.
+
+    The fields given decide the form: ``frequency`` (a tone), ``mains`` (mains
+    pickup with ``tolerance`` and ``harmonics``), ``spectrum`` or ``spectrum_file``
+    (a table of frequency and density).
+    """
+
+    name: Text = _field("Label used in tables.", "pump resonance")
+    frequency: Quantity = _field("A tone: its frequency.", "82 kHz")
+    amplitude: Quantity | list[Quantity] = _field(
+        "RMS amplitude at the sensor: of the tone, or of mains pickup at each harmonic "
+        "(one value for all, or a list: fundamental, 2nd, 3rd ...).",
+        "12 mV",
+    )
+    mains: Quantity | list[Quantity] = _field(
+        "Mains pickup: the nominal mains frequency, or both.", ["50 Hz", "60 Hz"]
+    )
+    tolerance: Quantity = _field(
+        "Mains frequency tolerance; the worst frequency inside it is checked (default 1 %).",
+        "1 %",
+    )
+    harmonics: int | None = _field(
+        "Mains harmonics up to this order, the fundamental being 1 (default 1).", 5, strict=True
+    )
+    spectrum: list[list[Quantity]] | None = _field(
+        "An out-of-band spectrum at the sensor: [frequency, density] pairs, ascending.",
+        [["100 kHz", "2 µV/√Hz"], ["1 MHz", "200 nV/√Hz"]],
+    )
+    spectrum_file: Text = _field(
+        "The same as a CSV file of frequency,density rows (relative to the design file).",
+        "hash.csv",
+    )
+    allowance: Quantity = _field(
+        "Largest residue allowed for this one, V rms at the sensor (default: the "
+        "requirement's interference allowance, else 1/5 of the allowed noise).",
+        "2 µV",
+    )
+
+
 class RequirementTable(_Table):
     """What the chain must resolve, and the conditions it is judged at."""
 
@@ -144,8 +185,14 @@ class RequirementTable(_Table):
         "Allowance reserved for interference, V rms at the sensor (default 0).", "20 nV"
     )
     interferer: InterfererTable | None = _field(
-        "An interferer the anti-alias filter must suppress.",
+        "An interferer the anti-alias filter must suppress (a tone; checked as "
+        "interferers[0] when both are given).",
         {"frequency": "150 kHz", "amplitude": "10 mV"},
+    )
+    interferers: list[InterferenceEntry] | None = _field(
+        "Stated interferers at the sensor, as [[requirement.interferers]] tables: tones, "
+        "mains pickup, out-of-band spectra. Each fails the verdict when its residue "
+        "exceeds its allowance.",
     )
     description: Text = _field(
         "The requirement in your words (made from the fields when omitted).",

@@ -34,6 +34,7 @@ from ..units.formatting import (
     format_si,
     format_temperature,
 )
+from .interference_text import interference_lines
 
 __all__ = [
     "format_budget",
@@ -297,29 +298,8 @@ def format_budget(
         lines += _table(allowed, set())
         lines.append("")
 
-    alias = interferer_check(budget, design)
-    if alias is not None:
-        lines.append("Stated interferer (interference, not noise)")
-        lines += _table(
-            [
-                [
-                    "tone",
-                    f"{_v(alias.amplitude_v)} rms at {_hz(alias.frequency_hz)} (at the sensor), "
-                    f"lands at {_hz(alias.alias_hz)} after sampling",
-                ],
-                [
-                    "attenuation",
-                    f"{format_db(alias.analog_db)} analog + {format_db(alias.digital_db)} digital",
-                ],
-                [
-                    "residue",
-                    f"{_v(alias.residue_v)} rms at the sensor; allowed {_v(alias.allowed_v)} rms "
-                    f"({alias.allowed_reason}): "
-                    + ("within it" if alias.within_allowance else "EXCEEDS it"),
-                ],
-            ],
-            set(),
-        )
+    if judged.interference:
+        lines += interference_lines(judged.interference)
         lines.append("")
 
     dominant = ", ".join(f"{c.name} ({c.stage})" for c in budget.dominant)
@@ -388,7 +368,9 @@ def check_data(
     names the unit) plus ``verdict``, ``failures`` (``[{item, value, limit, unit,
     message}]``, SI values), ``checked`` (every item judged), ``meets_requirement``
     (true only when ``failures`` is empty), ``engineering`` (or None), ``interferer``
-    (the stated interferer through the chain, or None), and ``design``
+    (the older single stated tone through the chain, or None), ``interferers`` (every
+    stated interferer through the whole chain: residue, allowance, where it lands, each
+    tone), and ``design``
     (``source``, ``sha256``, ``meta``, ``notes``). Values are JSON-safe (see :func:`json_safe`).
     """
     if judged is None:
@@ -398,6 +380,7 @@ def check_data(
     if budget.requirement is not None:
         data["meets_requirement"] = judged.meets
     data["failures"] = [f.to_dict() for f in judged.failures]
+    data["interferers"] = [r.to_dict() for r in judged.interference]
     data["checked"] = list(judged.checked)
     data["engineering"] = engineering_figures(budget)
     alias = interferer_check(budget, design)
