@@ -16,6 +16,7 @@ __all__ = [
     "DesignErrors",
     "ChainError",
     "describe_value",
+    "escaped",
 ]
 
 
@@ -27,8 +28,81 @@ _CONTROL = {
 }
 
 
+_LIMIT = 60
+
+
+def escaped(text: str) -> str:
+    r"""``text`` with control characters and line separators escaped: it stays on one line.
+
+    For names, paths and file names put into messages.
+
+    Examples
+    --------
+    >>> escaped("design\nfile.toml")
+    'design\\nfile.toml'
+    """
+    return str(text).translate(_CONTROL)
+
+
+def _toml_string(text: str) -> str:
+    return '"' + text.replace("\\", "\\\\").replace('"', '\\"').translate(_CONTROL) + '"'
+
+
+def _toml(value: Any, budget: int, depth: int = 0) -> str:
+    """``value`` in TOML syntax, stopping once about ``budget`` characters are written."""
+    import datetime as dt
+    import math
+
+    if isinstance(value, str):
+        return _toml_string(value[: budget + 1])
+    if isinstance(value, bool):
+        return "true" if value else "false"
+    if isinstance(value, int):
+        # TOML integers are 64-bit; a Python caller may pass more digits than str() writes.
+        return str(value) if value.bit_length() < 1000 else "an integer of over 300 digits"
+    if isinstance(value, float):
+        if math.isnan(value):
+            return "nan"
+        if math.isinf(value):
+            return "inf" if value > 0 else "-inf"
+        return repr(value)
+    if isinstance(value, dt.datetime | dt.date | dt.time):
+        return value.isoformat()
+    if isinstance(value, list | tuple | dict):
+        if depth >= 3:
+            return "{...}" if isinstance(value, dict) else "[...]"
+        items = value.items() if isinstance(value, dict) else value
+        parts: list[str] = []
+        used = 2
+        for item in items:
+            if used > budget:
+                parts.append("...")
+                break
+            if isinstance(value, dict):
+                key, v = item
+                key = str(key)
+                name = (
+                    key
+                    if key.replace("_", "").replace("-", "").isalnum() and key.isascii()
+                    else _toml_string(key)
+                )
+                piece = f"{name} = {_toml(v, budget - used, depth + 1)}"
+            else:
+                piece = _toml(item, budget - used, depth + 1)
+            parts.append(piece)
+            used += len(piece) + 2
+        if isinstance(value, dict):
+            return "{ " + ", ".join(parts) + " }" if parts else "{}"
+        return "[" + ", ".join(parts) + "]"
+    return _toml_string(str(value)[: budget + 1])
+
+
 def describe_value(value: Any) -> str:
-    r"""Render a user-given value for an error message: one line, shortened if long.
+    r"""Render a user-given value for an error message: TOML syntax, one line, shortened if long.
+
+    The value is written as it would be in the design file, not as Python
+    writes it: text in double quotes, ``true``, arrays in brackets, tables
+    inline, dates in ISO form.
 
     Examples
     --------
@@ -38,9 +112,14 @@ def describe_value(value: Any) -> str:
     '"a\\nb"'
     >>> len(describe_value("0\x855 V\u2028").splitlines())
     1
+    >>> describe_value({"type": "rc_filter", "open": True})
+    '{ type = "rc_filter", open = true }'
+    >>> import datetime
+    >>> describe_value(datetime.datetime(2024, 5, 1, 10, 0))
+    '2024-05-01T10:00:00'
     """
-    text = repr(value) if not isinstance(value, str) else f'"{value.translate(_CONTROL)}"'
-    return text if len(text) <= 60 else text[:57] + "..."
+    text = _toml(value, _LIMIT)
+    return text if len(text) <= _LIMIT else text[: _LIMIT - 3] + "..."
 
 
 class ResplanError(Exception):
@@ -78,6 +157,8 @@ class DesignError(ResplanError, ValueError):
 
     def _message(self) -> str:
         where = f"{self.source}: " if self.source else ""
+        if self.value is None:  # an absent field
+            return f"{where}{self.field}: missing, expected {self.expected}"
         return f"{where}{self.field}: got {describe_value(self.value)}, expected {self.expected}"
 
     def with_context(self, prefix: str | None = None, source: str | None = None) -> DesignError:
@@ -90,7 +171,8 @@ class DesignErrors(ResplanError, ValueError):
     """Several problems found at once; the message has one line per problem."""
 
     def __init__(self, errors: Iterable[DesignError]):
-        self.errors = list(errors)
+        # Each problem once, in the order found.
+        self.errors = list({str(e): e for e in errors}.values())
         super().__init__("\n".join(str(e) for e in self.errors))
 
 

@@ -510,7 +510,9 @@ def test_bad_input_raises_one_clear_error(build, field, expected, bridge_chain):
     assert err.field == field
     message = str(err)
     assert "\n" not in message
-    assert message.startswith(f"{field}: got ")
+    # An absent value (None) reads "missing", never "got None".
+    assert message.startswith((f"{field}: got ", f"{field}: missing, expected"))
+    assert "None" not in message
     assert expected in message
 
 

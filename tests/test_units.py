@@ -268,7 +268,8 @@ def test_parse_quantity_errors(value, dimension, fragments):
     assert error.field == "stages[1].en"
     assert error.value is value
     message = str(error)
-    assert message.startswith(f"stages[1].en: got {describe_value(value)}, expected ")
+    given = "missing" if value is None else f"got {describe_value(value)}"
+    assert message.startswith(f"stages[1].en: {given}, expected ")
     for fragment in fragments:
         assert fragment in error.expected
 

@@ -38,7 +38,8 @@ from typing import Any
 
 from ..chain.design import Design, Meta, OpenPart
 from ..chain.signal_chain import ROOM_TEMPERATURE_K
-from ..errors import DesignError, DesignErrors, ResplanError, describe_value
+from ..errors import DesignError, DesignErrors, describe_value, escaped
+from .bounds import MAX_FILE_BYTES, DesignFileError, capped, check_bounds, read_bounded
 from .converter import (
     MAX_AVERAGE,
     MAX_DECIMATION,
@@ -75,13 +76,6 @@ __all__ = [
     "MAX_DECIMATION",
     "MAX_AVERAGE",
 ]
-
-
-class DesignFileError(ResplanError, ValueError):
-    """A design file that cannot be read at all: missing, not text, or bad TOML.
-
-    The message is one line, starting with the file (and ``line:col`` for syntax).
-    """
 
 
 # ---------------------------------------------------------------------------
@@ -210,7 +204,7 @@ def design_from_mapping(
         found = structure + later
         if not found:  # pragma: no cover - every None comes with a recorded problem
             found = [DesignError("design", "?", "a complete design")]
-        raise DesignErrors(with_source(e, source) for e in found)
+        raise DesignErrors(capped([with_source(e, source) for e in found], source))
     stages = [_weighted(s, weights) for s in stages]
     reference = _weighted(reference, weights)
     adc = _weighted(adc, weights)
@@ -258,8 +252,16 @@ def loads_design(text: str, source: str = "<design>") -> Design:
     DesignErrors
         For everything else.
     """
+    if len(text) > MAX_FILE_BYTES:
+        raise DesignFileError(
+            f"{source}: longer than the {MAX_FILE_BYTES:,} characters (1 MB) a design may hold"
+        )
     try:
         data = tomllib.loads(text)
+    except RecursionError:
+        raise DesignFileError(
+            f"{source}: tables or arrays nested too deeply (at most 16 levels)"
+        ) from None
     except tomllib.TOMLDecodeError as err:
         message = str(err)
         m = _TOML_POSITION.search(message)
@@ -271,7 +273,10 @@ def loads_design(text: str, source: str = "<design>") -> Design:
             where = f"{source}:{lines}:1"
             message = message.replace(" (at end of document)", "")
         raise DesignFileError(f"{where}: bad TOML syntax: {message}") from None
-    digest = hashlib.sha256(text.encode("utf-8")).hexdigest()
+    too_big = check_bounds(data)
+    if too_big:
+        raise DesignErrors(capped([with_source(e, source) for e in too_big], source))
+    digest = hashlib.sha256(text.encode("utf-8", "surrogatepass")).hexdigest()
     return design_from_mapping(data, source, digest)
 
 
@@ -290,15 +295,8 @@ def load_design(path: str | Path) -> Design:
     DesignErrors
         Every problem in its content, one per line.
     """
-    source = str(path)
-    try:
-        raw = Path(path).read_bytes()
-    except FileNotFoundError:
-        raise DesignFileError(f"{source}: no such design file") from None
-    except IsADirectoryError:
-        raise DesignFileError(f"{source}: is a folder, expected a design file") from None
-    except OSError as err:
-        raise DesignFileError(f"{source}: cannot be read ({err.strerror or err})") from None
+    source = escaped(str(path))
+    raw = read_bounded(path, source)
     try:
         text = raw.decode("utf-8-sig")  # a byte-order mark, as some editors write, is fine
     except UnicodeDecodeError as err:

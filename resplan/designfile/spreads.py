@@ -147,15 +147,17 @@ def _read_spread(path: str, table: dict[str, Any]) -> tuple[Spread, Any]:
         if top < typ:
             raise DesignError(f"{path}.max", table["max"], f"a maximum ≥ typ ({table['typ']})")
         sigma = (top - typ) / WORST_CASE_SIGMAS
-        spread = Spread(path, "typ-max", typ, "normal", sigma, 2 * typ - top, top, display,
-                        tempco, text)
+        spread = Spread(
+            path, "typ-max", typ, "normal", sigma, 2 * typ - top, top, display, tempco, text
+        )
         written = table["typ"]
     elif form == "sigma":
         typ = values["value"]
         sigma, su = _difference(table["sigma"], f"{path}.sigma", unit)
         k = WORST_CASE_SIGMAS * sigma
-        spread = Spread(path, "sigma", typ, "normal", sigma, typ - k, typ + k, display, tempco,
-                        text)
+        spread = Spread(
+            path, "sigma", typ, "normal", sigma, typ - k, typ + k, display, tempco, text
+        )
         written = table["value"]
     elif form == "tolerance":
         typ = values["value"]
@@ -167,8 +169,9 @@ def _read_spread(path: str, table: dict[str, Any]) -> tuple[Spread, Any]:
             half = abs(typ) * tol
         else:
             half, _ = _difference(tol_text, f"{path}.tolerance", unit)
-        spread = Spread(path, "tolerance", typ, "uniform", 0.0, typ - half, typ + half, display,
-                        tempco, text)
+        spread = Spread(
+            path, "tolerance", typ, "uniform", 0.0, typ - half, typ + half, display, tempco, text
+        )
         written = table["value"]
     elif form in ("min-max", "min-max-typ"):
         low, high = values["min"], values["max"]
@@ -315,6 +318,7 @@ def split_spreads(
 
 def _temperatures(typical: Mapping[str, Any], values: Mapping[str, float]) -> tuple[float, float]:
     """Electronics and sensor temperature, K: ``values`` first, then the file (25 °C default)."""
+
     def read(path: str) -> float | None:
         if path in values:
             return values[path]
