@@ -20,7 +20,7 @@ from .signal_chain import ROOM_TEMPERATURE_K, Band, Chain
 from .stages import AnalogStage, Reference, Sensor
 from .tolerance import Spread
 
-__all__ = ["Meta", "OpenPart", "Design", "PART_KINDS"]
+__all__ = ["Meta", "Revision", "OpenPart", "Design", "PART_KINDS"]
 
 #: Kinds of open part and the known fields (SI, core field names) each may carry.
 PART_KINDS: dict[str, tuple[str, ...]] = {
@@ -37,14 +37,25 @@ PART_KINDS: dict[str, tuple[str, ...]] = {
 
 
 @dataclass(frozen=True)
+class Revision:
+    """One entry of a design's revision history (free text)."""
+
+    revision: str = ""
+    date: str = ""
+    author: str = ""
+    change: str = ""
+
+
+@dataclass(frozen=True)
 class Meta:
-    """Title block of a design (free text)."""
+    """Title block of a design (free text), with its revision history, oldest first."""
 
     title: str = "Untitled design"
     project: str = ""
     revision: str = ""
     author: str = ""
     date: str = ""
+    history: tuple[Revision, ...] = ()
 
 
 @dataclass(frozen=True)

@@ -36,7 +36,7 @@ from collections.abc import Mapping
 from pathlib import Path
 from typing import Any
 
-from ..chain.design import Design, Meta, OpenPart
+from ..chain.design import Design, Meta, OpenPart, Revision
 from ..chain.signal_chain import ROOM_TEMPERATURE_K
 from ..errors import DesignError, DesignErrors, describe_value, escaped
 from .bounds import MAX_FILE_BYTES, DesignFileError, capped, check_bounds, read_bounded
@@ -165,6 +165,10 @@ def design_from_mapping(
         revision=meta_t.revision or "",
         author=meta_t.author or "",
         date=meta_t.date or "",
+        history=tuple(
+            Revision(h.revision or "", h.date or "", h.author or "", h.change or "")
+            for h in meta_t.history or ()
+        ),
     )
     requirement, span = read_requirement(r, model.requirement)
     temperature = r.q(

@@ -89,6 +89,15 @@ class _Table(BaseModel):
 # tables
 
 
+class RevisionTable(_Table):
+    """One earlier (or the current) revision of the design, for the report's history."""
+
+    revision: Text = _field("Revision letter or number.", "A")
+    date: Text = _field("Date of that revision (text or a TOML date).", "2024-03-12")
+    author: Text = _field("Who made it.", "A. Engineer")
+    change: Text = _field("What changed, in a line.", "first issue")
+
+
 class MetaTable(_Table):
     """Title block of the design (free text, shown in every output)."""
 
@@ -97,6 +106,9 @@ class MetaTable(_Table):
     revision: Text = _field("Revision of the design file.", "B")
     author: Text = _field("Who wrote it.", "A. Engineer")
     date: Text = _field("Date of this revision (text or a TOML date).", "2024-05-01")
+    history: list[RevisionTable] | None = _field(
+        "Revision history, oldest first ([[meta.history]] tables), printed in the report."
+    )
 
 
 class InterfererTable(_Table):

@@ -29,7 +29,7 @@ from ..chain.signal_chain import Chain
 from ..errors import DesignError, DesignErrors
 from ..units.formatting import format_si
 from .levers import Lever, find_levers
-from .limits import PartRequirement, gain_limits, given_adc_limits, part_limits
+from .limits import PartRequirement, gain_limits, part_limits
 from .provisional import DEFAULT_FILTER, Slot, provisional_chain
 
 
@@ -262,7 +262,6 @@ def plan_design(
         limits[slot.part.field_path] = limit
 
     requirements.extend(gain_limits(slots, chain, design, fixed, allowed, reasons))
-    requirements.extend(given_adc_limits(chain, design, fixed_budget, allowed))
     if any(r.startswith("the ADC's noise needs") for r in reasons):
         feasible = False
     return Plan(

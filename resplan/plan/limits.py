@@ -10,8 +10,7 @@ import math
 from dataclasses import dataclass
 
 from ..chain.alias import allowed_residue, path_attenuation_db
-from ..chain.budget import Budget
-from ..chain.converter import NoiseAtRate, SnrNoise, TransitionNoise
+from ..chain.converter import NoiseAtRate
 from ..chain.design import Design, OpenPart
 from ..chain.resolution import sine_rms
 from ..chain.signal_chain import Chain
@@ -22,7 +21,7 @@ from ..noise.responses import AnalogLowpass
 from ..units.formatting import format_si
 from .provisional import Slot, signal_band_top
 
-__all__ = ["PartRequirement", "part_limits", "gain_limits", "given_adc_limits", "first_gain_index"]
+__all__ = ["PartRequirement", "part_limits", "gain_limits", "first_gain_index"]
 
 
 def _v(value: float) -> str:
@@ -469,34 +468,6 @@ def gain_limits(slots, chain: Chain, design: Design, fixed, allowed: float, reas
                 f"range allows at most {g_max:.4g} V/V: a quieter ADC or a larger span"
             )
     return rows
-
-
-def given_adc_limits(chain: Chain, design: Design, budget: Budget, allowed: float) -> list:
-    """For a given ADC with white noise: the highest output data rate that still fits."""
-    adc = design.adc
-    if isinstance(adc, OpenPart) or design.open_parts:
-        return []
-    if not isinstance(adc.noise, NoiseAtRate | SnrNoise | TransitionNoise):
-        return []
-    own = [c for c in budget.contributions if c.stage == adc.name]
-    own_sq = sum(c.rms_v**2 for c in own)
-    rest = budget.total_rms_v**2 - own_sq
-    room = allowed**2 - rest
-    if own_sq <= 0 or room <= 0:
-        return []
-    factor = room / own_sq
-    return [
-        PartRequirement(
-            adc.name,
-            "adc",
-            "highest output data rate for this ADC",
-            chain.output_rate_hz * factor,
-            "Hz",
-            "info",
-            "its noise white from sample to sample and the other parts unchanged",
-            "ODR_max = ODR · room/σ_ADC²",
-        )
-    ]
 
 
 def part_limits(slot: Slot, var: float, chain: Chain, design: Design, band, grid_points: int):

@@ -13,9 +13,21 @@ _BOUND_WORDS = {"max": "at most", "min": "at least", "info": ""}
 
 
 def allocation_section(w: Writer, design: Design, plan: Any, plan_note: str) -> list:
-    out = [w.p(SECTION_TITLES[2], w.h1)]
+    out = [w.heading(SECTION_TITLES[2], 0)]
     if plan is None:
         out.append(w.p(plan_note or "The plan was not computed."))
+        return out
+    if not design.open_parts:
+        # Nothing is open: the plan would only repeat the forward budget of section 4.
+        out.append(
+            w.p(
+                "Every part is given, so there is nothing to allocate: the forward budget in "
+                f"section 4 is the check, against {rms(plan.allowed_noise_rms_v)} of noise "
+                "allowed at the sensor. Leave a part open in the design file to have the plan "
+                "size it."
+            )
+        )
+        out += _levers(w, plan)
         return out
     feasible = bool(getattr(plan, "feasible", False))
     out.append(
@@ -37,13 +49,13 @@ def allocation_section(w: Writer, design: Design, plan: Any, plan_note: str) -> 
         out.append(w.p(reason))
     fixed = [c for c in getattr(plan, "fixed", ()) or () if c.rms_v > 0]
     if fixed:
-        out.append(w.p("Noise fixed by the given parts", w.h2))
+        out.append(w.heading("Noise fixed by the given parts", 1))
         rows = [["Contributor", "Stage", "Kind", "RMS at sensor"]]
         rows += [[c.name, c.stage, c.kind, rms(c.rms_v)] for c in fixed]
         out.append(w.table(rows, [60, 50, 25, 35], align_right=(3,)))
     allocations = getattr(plan, "allocations", ()) or ()
     if allocations:
-        out.append(w.p("Allocation among the open parts", w.h2))
+        out.append(w.heading("Allocation among the open parts", 1))
         rows = [["Part", "Kind", "Field", "Weight", "Share", "RMS at sensor", "RMS at ADC"]]
         rows += [
             [
@@ -62,7 +74,7 @@ def allocation_section(w: Writer, design: Design, plan: Any, plan_note: str) -> 
         out.append(w.p("Every part is given: there is nothing to allocate."))
     requirements = getattr(plan, "requirements", ()) or ()
     if requirements:
-        out.append(w.p("Per-part requirements", w.h2))
+        out.append(w.heading("Per-part requirements", 1))
         rows = [["Part", "Quantity", "Limit", "Condition", "Formula"]]
         for r in requirements:
             bound = _BOUND_WORDS.get(getattr(r, "bound", ""), getattr(r, "bound", ""))
@@ -77,9 +89,15 @@ def allocation_section(w: Writer, design: Design, plan: Any, plan_note: str) -> 
                 ]
             )
         out.append(w.table(rows, [30, 30, 24, 40, 46]))
+    out += _levers(w, plan)
+    return out
+
+
+def _levers(w: Writer, plan: Any) -> list:
+    out: list = []
     levers = getattr(plan, "levers", ()) or ()
     if levers:
-        out.append(w.p("Levers", w.h2))
+        out.append(w.heading("Levers", 1))
         rows = [["Lever", "Value", "What it means"]]
         rows += [
             [

@@ -13,7 +13,7 @@ from .writer import Writer
 
 
 def budget_section(w: Writer, design: Design, budget: Budget | None) -> list:
-    out = [w.p(SECTION_TITLES[3], w.h1)]
+    out = [w.heading(SECTION_TITLES[3], 0)]
     if budget is None:
         names = ", ".join(f"{p.field_path} ({p.kind})" for p in design.open_parts)
         out.append(

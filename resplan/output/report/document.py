@@ -48,6 +48,7 @@ from .figures import figures_section
 from .formulas import formulas_section
 from .requirement import requirement_section
 from .safety import safety_section
+from .signoff import document_control_section
 from .style import MARGIN, PAPER_SIZES, SECTION_TITLES
 from .summary import summary_section, title_block
 from .writer import Writer
@@ -155,6 +156,7 @@ def write_report(
     w = Writer(width)
     story: list = []
     story += title_block(w, design)
+    story += document_control_section(w, design)
     story += summary_section(w, design, budget, plan)
     story.append(PageBreak())
     story += requirement_section(w, design, budget, plan)
@@ -167,11 +169,10 @@ def write_report(
     story += safety_section(w)
 
     meta = design.meta
-    footer = f"resplan {__version__} · {meta.title or 'Untitled design'}"
-    if meta.revision:
-        footer += f" · rev. {meta.revision}"
+    tail = f" · rev. {meta.revision}" if meta.revision else ""
     if design.sha256:
-        footer += f" · design SHA-256 {design.sha256[:12]}…"
+        tail += f" · design SHA-256 {design.sha256[:12]}…"
+    footer = (f"resplan {__version__} · ", meta.title or "Untitled design", tail)
 
     with atomic_path(target) as temp:
         doc = BaseDocTemplate(
@@ -185,6 +186,7 @@ def write_report(
             author=meta.author or "",
             subject="Noise and resolution requirements appendix",
             creator=f"resplan {__version__}",
+            invariant=1,  # no time stamp or random file id: the same input, the same bytes
         )
         frame = Frame(MARGIN, MARGIN, width, pagesize[1] - 2 * MARGIN, id="body")
         doc.addPageTemplates([PageTemplate(id="page", frames=[frame])])

@@ -12,7 +12,7 @@ from .writer import Writer
 def figures_section(w: Writer, figs: dict, pngs: dict[str, bytes], dpi: int) -> list:
     from reportlab.platypus import Image, KeepTogether
 
-    out = [w.p(SECTION_TITLES[4], w.h1)]
+    out = [w.heading(SECTION_TITLES[4], 0)]
     if not figs:
         out.append(w.p("No figures: the design has open parts and no plan to draw."))
         return out

@@ -148,7 +148,7 @@ FORMULAS: tuple[tuple[str, str, str], ...] = (
 
 
 def formulas_section(w: Writer) -> list:
-    out = [w.p(SECTION_TITLES[5], w.h1)]
+    out = [w.heading(SECTION_TITLES[5], 0)]
     rows = [["Quantity", "Formula", "Source"]]
     rows += [list(row) for row in FORMULAS]
     out.append(w.table(rows, [38, 62, 70]))

@@ -21,7 +21,7 @@ from .writer import Writer, coverage_text, k_text, maybe_hz, rms
 
 def requirement_section(w: Writer, design: Design, budget: Budget | None, plan: Any) -> list:
     req = design.requirement
-    out = [w.p(SECTION_TITLES[1], w.h1), w.p("The requirement", w.h2)]
+    out = [w.heading(SECTION_TITLES[1], 0), w.heading("The requirement", 1)]
     swing = "bipolar, ±" + format_si(req.span_v / 2, "V") if design.sensor.bipolar else "unipolar"
     rows: list[list[Any]] = [
         ["Statement", req.description or "no statement given"],
@@ -48,7 +48,7 @@ def requirement_section(w: Writer, design: Design, budget: Budget | None, plan: 
     ]
     out.append(w.table(rows, [55, 115], header=False, label_column=True))
 
-    out.append(w.p("The chain", w.h2))
+    out.append(w.heading("The chain", 1))
     parts: list[tuple[str, Any]] = [("sensor", design.sensor)]
     parts += [(f"stages[{i}]", s) for i, s in enumerate(design.stages)]
     if design.reference is not None:
@@ -62,7 +62,7 @@ def requirement_section(w: Writer, design: Design, budget: Budget | None, plan: 
         rows.append(["digital_filter", "digital filtering", "digital", describe_digital(design)])
     out.append(w.table(rows, [20, 38, 24, 88]))
 
-    out.append(w.p("Assumptions", w.h2))
+    out.append(w.heading("Assumptions", 1))
     items = [
         f"Lower band edge f_L = {format_si(design.band.f_low_hz, 'Hz')}: it bounds the 1/f "
         "noise, which does not average down (about 1/observation time). The noise band above "

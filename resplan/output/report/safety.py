@@ -30,6 +30,6 @@ SUMMARY_CAUTION = (
 def safety_section(w: Writer) -> list:
     from reportlab.platypus import KeepTogether
 
-    out = [w.p(SECTION_TITLES[6], w.h1)]
+    out = [w.heading(SECTION_TITLES[6], 0)]
     out += [w.p(text) for text in SAFETY_PARAGRAPHS]
     return [KeepTogether(out)]

@@ -23,9 +23,9 @@ from .writer import (
     coverage_text,
     k_text,
     maybe_hz,
+    report_date,
     rms,
     signed_bits,
-    today,
 )
 
 
@@ -33,17 +33,18 @@ def title_block(w: Writer, design: Design) -> list:
     from reportlab.platypus import Spacer
 
     meta = design.meta
+    written, how = report_date(meta.date)
     rows = [
         ["Project", meta.project or "—"],
         ["Revision", meta.revision or "—"],
         ["Author", meta.author or "—"],
-        ["Date", meta.date or f"{today()} (date of this report; the design gives none)"],
+        ["Date", meta.date or "— (the design gives none)"],
         ["Design file", design.source or "— (built in code)"],
         [
             "SHA-256 of the design file",
             w.p(design.sha256, w.mono) if design.sha256 else "not recorded (no design file)",
         ],
-        ["Written by", f"resplan {__version__} on {today()}"],
+        ["Written by", f"resplan {__version__} on {written} ({how})"],
     ]
     return [
         w.p(meta.title or "Untitled design", w.title),
@@ -99,7 +100,7 @@ def _verdict(w: Writer, budget: Budget | None, plan: Any) -> Any:
 
 def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any) -> list:
     req = design.requirement
-    out = [w.p(SECTION_TITLES[0], w.h1), _verdict(w, budget, plan)]
+    out = [w.heading(SECTION_TITLES[0], 0), _verdict(w, budget, plan)]
     rows: list[list[Any]] = [["Requirement", _requirement_line(design)]]
     if budget is not None:
         b = budget
@@ -200,7 +201,7 @@ def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any)
                 rows.append(["Output data rate", format_si(plan.output_rate_hz, "Hz")])
     out.append(w.table(rows, [55, 115], header=False, label_column=True))
     if budget is not None and budget.warnings:
-        out.append(w.p("Warnings from the budget:", w.h2))
+        out.append(w.heading("Warnings from the budget:", 1))
         out += w.bullet_items(list(budget.warnings))
     out.append(w.p(SUMMARY_CAUTION, w.small))
     return out

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import datetime as _dt
 import math
+import os
 from collections.abc import Sequence
 from typing import Any
 from xml.sax.saxutils import escape
@@ -20,6 +21,7 @@ class Writer:
         from reportlab.lib.styles import ParagraphStyle
 
         self.width = width
+        self._headings = 0
         f = fonts()
         self.unicode = bool(f["unicode"])
         self.f = f
@@ -34,10 +36,24 @@ class Writer:
             "caption", base, fontSize=7.8, leading=10, textColor=GREY, spaceAfter=10
         )
         self.h1 = ParagraphStyle(
-            "h1", base, fontName=f["bold"], fontSize=13, leading=16, spaceBefore=6, spaceAfter=6
+            "h1",
+            base,
+            fontName=f["bold"],
+            fontSize=13,
+            leading=16,
+            spaceBefore=6,
+            spaceAfter=6,
+            keepWithNext=1,
         )
         self.h2 = ParagraphStyle(
-            "h2", base, fontName=f["bold"], fontSize=10, leading=13, spaceBefore=8, spaceAfter=3
+            "h2",
+            base,
+            fontName=f["bold"],
+            fontSize=10,
+            leading=13,
+            spaceBefore=8,
+            spaceAfter=3,
+            keepWithNext=1,
         )
         self.title = ParagraphStyle(
             "title", base, fontName=f["bold"], fontSize=18, leading=22, spaceAfter=2
@@ -57,6 +73,28 @@ class Writer:
         from reportlab.platypus import Paragraph
 
         return Paragraph(text if markup else self.text(text), style or self.body)
+
+    def heading(self, text: str, level: int, style=None):
+        """A heading that keeps with what follows it and is an entry of the PDF's outline.
+
+        ``level`` 0 is a section (h1 style by default), 1 a part of one (h2 style).
+        """
+        from reportlab.platypus import Paragraph
+
+        self._headings += 1
+        key = f"heading-{self._headings}"
+        title = self.text(text)
+
+        class Heading(Paragraph):
+            def draw(self):
+                super().draw()
+                x, y = self.canv.absolutePosition(0, self.height)
+                # The page is only numbered when the canvas writes it out (canvas.py):
+                # the bookmark is placed then, the outline entry can be added now.
+                self.canv.mark_heading(key, x, y)
+                self.canv.addOutlineEntry(title, key, level=level, closed=False)
+
+        return Heading(title, style or (self.h1 if level == 0 else self.h2))
 
     def bullets(self, items: Sequence[str]) -> list:
         return [self.p(item, self.bullet) for item in items]
@@ -79,6 +117,7 @@ class Writer:
         align_right: Sequence[int] = (),
         label_column: bool = False,
         font_size: float | None = None,
+        row_height: float | None = None,
     ):
         """A table; str cells become paragraphs (they wrap), flowables pass through."""
         from reportlab.lib import colors
@@ -113,6 +152,7 @@ class Writer:
         t = Table(
             body,
             colWidths=col_widths,
+            rowHeights=None if row_height is None else [None] + [row_height] * (len(body) - 1),
             repeatRows=1 if header else 0,
             hAlign="LEFT",
             spaceAfter=6,
@@ -167,4 +207,23 @@ def after_allowance(req: Any) -> str:
 
 
 def today() -> str:
+    """Today's date (ISO 8601), or the UTC date of ``SOURCE_DATE_EPOCH`` when it is set."""
+    epoch = os.environ.get("SOURCE_DATE_EPOCH", "").strip()
+    if epoch.isdigit():
+        return _dt.datetime.fromtimestamp(int(epoch), _dt.UTC).date().isoformat()
     return _dt.date.today().isoformat()
+
+
+def report_date(design_date: str) -> tuple[str, str]:
+    """The date the report is written on, and where it came from.
+
+    ``SOURCE_DATE_EPOCH`` first (the reproducible-builds convention: seconds since
+    1970-01-01 UTC), then the design's ``[meta].date``, then today: the same design,
+    version and environment give the same PDF byte for byte.
+    """
+    epoch = os.environ.get("SOURCE_DATE_EPOCH", "").strip()
+    if epoch.isdigit():
+        return today(), "SOURCE_DATE_EPOCH"
+    if design_date:
+        return design_date, "the design's date"
+    return today(), "today; the design gives no date"

@@ -1,0 +1,154 @@
+"""The report read as a design-review document, on every embedded example.
+
+Each example's report is built twice (figures at a low resolution and few
+averaging counts, to stay fast) and read back with pypdf: its outline (one entry
+per heading), its text page by page and its bytes. Checked here: no page ends
+with a heading, every page carries the footer, the sign-off block and revision
+history are present, and the two builds are byte for byte the same (reportlab's
+invariant mode; dates from ``[meta].date`` or ``SOURCE_DATE_EPOCH``). The
+examples are invented scenarios.
+"""
+
+from __future__ import annotations
+
+import re
+
+import pypdf
+import pytest
+
+from resplan import __version__
+from resplan.chain.design import Meta
+from resplan.designfile.examples import list_examples, load_example
+from resplan.output.report import write_report
+from resplan.output.report.canvas import fit_footer
+from resplan.output.report.signoff import DOCUMENT_CONTROL_TITLE, SIGN_OFF_ROLES
+
+EXAMPLES = [name for name, _ in list_examples()]
+FEW_COUNTS = (1, 4)
+FOOTER_NUMBER = re.compile(r"page (\d+) of (\d+)$")
+
+
+def outline_titles(reader: pypdf.PdfReader) -> list[tuple[str, int]]:
+    found = []
+
+    def walk(items):
+        for item in items:
+            if isinstance(item, list):
+                walk(item)
+            else:
+                found.append((item.title, reader.get_destination_page_number(item)))
+
+    walk(reader.outline)
+    return found
+
+
+def body_lines(page) -> list[str]:
+    """The page's text lines without the footer (drawn last, after the body)."""
+    lines = [ln.strip() for ln in page.extract_text().splitlines() if ln.strip()]
+    while lines and (
+        lines[-1].startswith(f"resplan {__version__}") or FOOTER_NUMBER.search(lines[-1])
+    ):
+        lines.pop()
+    return lines
+
+
+@pytest.fixture(scope="module", params=EXAMPLES)
+def built(request, tmp_path_factory):
+    folder = tmp_path_factory.mktemp(request.param)
+    design = load_example(request.param)
+    first = write_report(design, folder / "one.pdf", dpi=50, sweep_counts=FEW_COUNTS)
+    second = write_report(design, folder / "two.pdf", dpi=50, sweep_counts=FEW_COUNTS)
+    return design, first.read_bytes(), second.read_bytes(), pypdf.PdfReader(str(first))
+
+
+def test_building_twice_gives_identical_bytes(built):
+    _, first, second, _ = built
+    assert first == second
+
+
+def test_every_heading_is_in_the_outline(built):
+    _, _, _, reader = built
+    titles = [t for t, _ in outline_titles(reader)]
+    for needed in ("1 Summary", "7 Measurement safety", DOCUMENT_CONTROL_TITLE, "Revision history"):
+        assert needed in titles
+
+
+def test_no_page_ends_with_a_heading(built):
+    _, _, _, reader = built
+    headings = {t for t, _ in outline_titles(reader)}
+    for number, page in enumerate(reader.pages, start=1):
+        lines = body_lines(page)
+        assert lines, f"page {number} is empty"
+        assert lines[-1] not in headings, f"page {number} ends with the heading {lines[-1]!r}"
+
+
+def test_every_heading_has_content_after_it_on_its_page(built):
+    _, _, _, reader = built
+    for title, index in outline_titles(reader):
+        lines = body_lines(reader.pages[index])
+        where = [i for i, ln in enumerate(lines) if ln == title]
+        assert where and where[0] < len(lines) - 1, f"{title!r} alone at the foot of its page"
+
+
+def test_every_page_carries_the_footer(built):
+    design, _, _, reader = built
+    total = len(reader.pages)
+    for number, page in enumerate(reader.pages, start=1):
+        text = page.extract_text()
+        assert f"page {number} of {total}" in text
+        assert f"resplan {__version__} · " in text
+
+
+def test_sign_off_block_and_revision_history(built):
+    design, _, _, reader = built
+    text = "\n".join(page.extract_text() for page in reader.pages[:2])
+    for role in SIGN_OFF_ROLES:
+        assert role in text
+    assert "Revision history" in text
+    if design.meta.revision:
+        assert design.meta.revision in text
+
+
+def test_source_date_epoch_sets_the_written_date(tmp_path, monkeypatch):
+    # Reproducible-builds convention: SOURCE_DATE_EPOCH is seconds since 1970-01-01 UTC;
+    # 1700000000 s is 2023-11-14 22:13:20 UTC (from the definition, by hand).
+    monkeypatch.setenv("SOURCE_DATE_EPOCH", "1700000000")
+    import resplan.output.report.document as document
+
+    monkeypatch.setattr(document, "make_figures", lambda *a, **k: {})
+    path = write_report(load_example("kickoff-bridge"), tmp_path / "x.pdf")
+    text = pypdf.PdfReader(str(path)).pages[0].extract_text()
+    assert "2023-11-14 (SOURCE_DATE_EPOCH)" in text
+
+
+def _width(text: str) -> float:
+    return 5.0 * len(text)  # a monospaced stand-in: 5 pt a character
+
+
+@pytest.mark.parametrize(
+    ("title", "room", "expected"),
+    [
+        ("short", 200, "resplan · short · rev. A"),
+        ("a title far too long to fit", 150, "resplan · a title fa… · rev. A"),
+        ("x" * 40, 30, "…"),
+    ],
+)
+def test_footer_title_is_shortened_to_fit(title, room, expected):
+    text = fit_footer("resplan · ", title, " · rev. A", room, _width)
+    assert _width(text) <= room
+    assert text == expected
+
+
+def test_a_long_title_never_reaches_the_page_number(tmp_path, monkeypatch):
+    import resplan.output.report.document as document
+
+    monkeypatch.setattr(document, "make_figures", lambda *a, **k: {})
+    design = load_example("kickoff-bridge")
+    long = "An invented design whose title runs on and on " * 6
+    from dataclasses import replace
+
+    design = replace(design, meta=Meta(title=long.strip(), revision="B"))
+    reader = pypdf.PdfReader(str(write_report(design, tmp_path / "long.pdf")))
+    for page in reader.pages:
+        footer = [ln for ln in page.extract_text().splitlines() if ln.startswith("resplan ")]
+        assert footer and "…" in footer[-1]
