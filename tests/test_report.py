@@ -389,3 +389,11 @@ def test_docs_carry_the_report_formula_table():
         "docs/formulas.md is out of step with resplan/output/report/formulas.py: paste "
         "formulas_markdown() between the markers"
     )
+
+
+def test_every_contribution_id_is_in_the_budget_table(a4_report):
+    # The same stable ids as check --json and Budget[id] (resplan.chain.budget's table).
+    _, budget, _, text, _ = a4_report
+    squeezed = text.replace(" ", "")
+    missing = [c.id for c in budget.contributions if c.id not in squeezed]
+    assert not missing

@@ -322,6 +322,21 @@ class Budget:
             return None
         return (not self.overloaded) and self.total_rms_v <= self.allowed_rms_v * (1 + 1e-12)
 
+    def to_records(self) -> list[dict[str, Any]]:
+        """One flat row per contribution (id, name, stage, kind, rms_v, …; SI values).
+
+        Ready for ``pandas.DataFrame(budget.to_records())`` or CSV; see
+        :func:`resplan.chain.tables.budget_records`.
+        """
+        from .tables import budget_records
+
+        return budget_records(self)
+
+    def _repr_html_(self) -> str:
+        from .tables import budget_html
+
+        return budget_html(self)
+
     def to_dict(self) -> dict[str, Any]:
         """Plain data with stable keys (SI units; the key names the unit)."""
         req = self.requirement

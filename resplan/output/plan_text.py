@@ -11,10 +11,10 @@ import math
 from typing import Any
 
 from ..chain.design import Design
-from ..plan.allocation import PartRequirement, Plan
+from ..plan.allocation import Plan
+from ..plan.tables import format_limit, plan_verdict
 from ..units.formatting import (
     ascii_units,
-    format_bits,
     format_counts,
     format_db,
     format_percent,
@@ -24,51 +24,6 @@ from ..units.formatting import (
 from .budget_text import _table, json_safe
 
 __all__ = ["format_plan", "format_limit", "plan_data", "plan_verdict"]
-
-_BOUND = {"max": "≤ ", "min": "≥ ", "info": ""}
-
-
-def format_limit(row: PartRequirement) -> str:
-    """A requirement's value with its bound and unit, such as ``"≤ 18.7 nV/√Hz"``.
-
-    Examples
-    --------
-    >>> format_limit(PartRequirement("amp", "stages[0]", "e_n", 18.7e-9, "V/√Hz", "max"))
-    '≤ 18.7 nV/√Hz'
-    """
-    value, unit = row.value, row.unit
-    bound = _BOUND.get(row.bound, "")
-    if math.isinf(value):
-        return "none reaches it" if row.bound == "min" else "no limit"
-    if unit == "dB":
-        text = format_db(value)
-    elif unit == "bits":
-        text = format_bits(value)
-    elif unit in ("ppm", "LSB", "V/V"):
-        text = f"{value:.4g} {unit}"
-    elif unit == "":
-        text = f"{value:.0f}" if float(value).is_integer() else f"{value:.3g}"
-    else:
-        text = format_si(value, unit)
-    if unit in ("V",) and "rms" not in row.quantity:
-        text += " rms"
-    return bound + text
-
-
-def plan_verdict(plan: Plan) -> str:
-    """The one-line verdict of a plan."""
-    if plan.feasible and not plan.allocations:
-        return (
-            "FEASIBLE: nothing is open; the given parts leave "
-            f"{format_si(plan.remaining_rms_v, 'V')} rms unused "
-            "(run `resplan check` for the margin)"
-        )
-    if plan.feasible:
-        return (
-            "FEASIBLE: a chain whose open parts meet these limits meets the requirement "
-            "(with zero margin at the limits)"
-        )
-    return "INFEASIBLE: the requirement cannot be met as the design stands (see the levers)"
 
 
 def format_plan(plan: Plan, design: Design, *, ascii_only: bool = False) -> str:

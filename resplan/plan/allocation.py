@@ -100,6 +100,20 @@ class Plan:
     output_rate_hz: float | None
     limits: dict[str, dict[str, Any]] = field(default_factory=dict, repr=False, compare=False)
 
+    def to_records(self, what: str = "requirements") -> list[dict[str, Any]]:
+        """Flat rows: each part's limits, the allocation or the fixed contributions.
+
+        See :func:`resplan.plan.tables.plan_records`.
+        """
+        from .tables import plan_records
+
+        return plan_records(self, what)
+
+    def _repr_html_(self) -> str:
+        from .tables import plan_html
+
+        return plan_html(self)
+
     def to_dict(self) -> dict[str, Any]:
         """Plain data with stable keys (SI units; the key or ``unit`` names the unit)."""
         return {

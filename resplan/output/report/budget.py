@@ -26,7 +26,8 @@ def budget_section(w: Writer, design: Design, budget: Budget | None) -> list:
         return out
     out.append(
         w.p(
-            "Every contributor, largest first. RMS (V rms) over the chain's noise band, referred "
+            "Every contributor, largest first, with its stage and its id (the same in "
+            "check --json and from Python). RMS (V rms) over the chain's noise band, referred "
             "to the sensor (RTI) and at the ADC input; share of the total noise power; white "
             "density referred to the sensor and its 1/f corner where the source is a density; "
             "the white noise bandwidth of its path.",
@@ -48,7 +49,8 @@ def budget_section(w: Writer, design: Design, budget: Budget | None) -> list:
     ]
     for c in budget.contributions:
         name = w.p(
-            f"{w.text(c.name)}<br/><font color='{GREY}' size='6.5'>{w.text(c.stage)}</font>",
+            f"{w.text(c.name)}<br/><font color='{GREY}' size='6.5'>{w.text(c.stage)}"
+            f" · {w.text(c.id)}</font>",
             w.cell,
             markup=True,
         )
