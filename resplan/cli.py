@@ -199,7 +199,13 @@ def init(path: Path | None, name: str | None, list_only: bool, force: bool) -> N
 @click.option(
     "--ascii", "ascii_only", is_flag=True, help="Write units in ASCII (u, ohm, rtHz, degC)."
 )
-def check(design: str, as_json: bool, ascii_only: bool) -> None:
+@click.option(
+    "--worst-case",
+    "worst_case",
+    is_flag=True,
+    help="Judge the worst-case corner: every spread at its adverse end (default: typical).",
+)
+def check(design: str, as_json: bool, ascii_only: bool, worst_case: bool) -> None:
     """Check a complete design against its requirement: the forward noise budget.
 
     Prints every noise contributor referred to the sensor, the resolution over
@@ -213,20 +219,44 @@ def check(design: str, as_json: bool, ascii_only: bool) -> None:
       resplan check hive-scale.toml
       resplan check hive-scale.toml --json | python3 -m json.tool
       resplan check design.toml || echo "review needed"
+      resplan check design.toml --worst-case   # every spread at its adverse end
     """
     from .chain.verdict import judge_design
     from .designfile.load import check_design
     from .output.budget_text import check_data, format_budget
+    from .output.spread_text import (
+        figures_line,
+        format_corner,
+        format_improvements,
+        improvements_data,
+    )
+    from .spread.corner import worst_case as corner_of
+    from .spread.improve import improvements
 
     loaded = load_design_or_exit(design)
+    ascii_only = wants_ascii(ascii_only)
     with exit_on_error():
-        budget = check_design(loaded)
-        judged = judge_design(loaded, budget)
+        corner = corner_of(loaded) if worst_case else None
+        judged_design = corner.design if corner else loaded
+        budget = check_design(judged_design)
+        judged = judge_design(judged_design, budget)
+        better = improvements(judged_design)
     if as_json:
-        emit_json(check_data(budget, loaded, judged))
+        data = check_data(budget, judged_design, judged)
+        data["figures"] = "worst-case corner" if corner else "typical"
+        if corner:
+            data["worst_case"] = corner.to_dict()
+        data["improve_first"] = improvements_data(better)
+        emit_json(data)
     else:
-        text = format_budget(budget, loaded, ascii_only=wants_ascii(ascii_only), judged=judged)
-        click.echo(text)
+        text = format_budget(budget, judged_design, ascii_only=ascii_only, judged=judged)
+        body, _, last = text.rpartition("\n")  # the verdict stays the last line
+        if corner:
+            click.echo(format_corner(corner, ascii_only=ascii_only) + "\n")
+        click.echo(body)
+        click.echo(format_improvements(better, ascii_only=ascii_only) + "\n")
+        click.echo(figures_line(loaded, corner=corner is not None))
+        click.echo(last)
     sys.exit(EXIT_OK if judged.meets and budget.requirement is not None else EXIT_NOT_MET)
 
 
@@ -241,6 +271,84 @@ def schema() -> None:
     from .designfile.load import design_schema
 
     emit_json(design_schema())
+
+
+@main.command(name="yield")
+@click.argument("design", metavar="DESIGN")
+@click.option(
+    "--trials",
+    "-n",
+    default=100_000,
+    show_default=True,
+    type=click.IntRange(1, 100_000_000),
+    help="Number of boards to sample.",
+)
+@click.option("--seed", default=1, show_default=True, type=click.IntRange(0), help="Seed.")
+@click.option("--json", "as_json", is_flag=True, help="Print the result as JSON.")
+@click.option("--ascii", "ascii_only", is_flag=True, help="Plain ASCII units (u, ohm, rtHz).")
+@click.option(
+    "--exact",
+    is_flag=True,
+    help="Solve every trial with a full budget (slow; checks the factor model).",
+)
+def yield_(
+    design: str, trials: int, seed: int, as_json: bool, ascii_only: bool, exact: bool
+) -> None:
+    """Monte Carlo yield of DESIGN: the fraction of boards that meet, with its interval.
+
+    Samples every spread of the design file (typ/max, tolerance, min/max, sigma,
+    temperature ranges), judges each trial on every verdict item, and prints the
+    yield with its Clopper-Pearson 95 % interval, percentiles of noise and
+    noise-free bits, the drivers of the spread and the worst trial. The same
+    seed gives the same numbers on any machine. Exit status: 0 when the
+    interval's lower bound meets requirement.yield (or none is stated), 1 when
+    not, 2 bad input.
+
+    \b
+    Examples:
+      resplan yield hive-scale.toml
+      resplan yield hive-scale.toml --trials 1000000 --seed 7 --json
+    """
+    from .output.spread_text import format_trials, trials_data
+    from .spread.model import build_model
+    from .spread.trials import run_trials
+
+    loaded = load_design_or_exit(design)
+    with exit_on_error():
+        model = build_model(loaded)
+        with _progress(trials) as tick:
+            result = run_trials(model, trials, seed, progress=tick, exact=exact)
+    if as_json:
+        emit_json(trials_data(result, loaded))
+    else:
+        click.echo(format_trials(result, loaded, ascii_only=wants_ascii(ascii_only)))
+    sys.exit(EXIT_NOT_MET if result.meets is False else EXIT_OK)
+
+
+@contextlib.contextmanager
+def _progress(total: int) -> Iterator[Any]:
+    """A progress callback that shows a bar on stderr once a run will take over a second."""
+    import time
+
+    start = time.perf_counter()
+    state: dict[str, Any] = {"bar": None, "shown": 0}
+
+    def tick(done: int, total_: int) -> None:
+        elapsed = time.perf_counter() - start
+        bar = state["bar"]
+        if bar is None and done < total_ and elapsed * total_ / done > 1.0:
+            bar = click.progressbar(length=total_, label="trials", file=sys.stderr)
+            bar.__enter__()
+            state["bar"] = bar
+        if bar is not None:
+            bar.update(done - state["shown"])
+            state["shown"] = done
+
+    try:
+        yield tick
+    finally:
+        if state["bar"] is not None:
+            state["bar"].__exit__(None, None, None)
 
 
 # ---------------------------------------------------------------------------

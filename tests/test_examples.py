@@ -24,7 +24,7 @@ from resplan.designfile.examples import (
 from resplan.designfile.load import check_design
 from resplan.output.budget_text import check_data, format_budget, verdict
 
-COMPLETE = ("hive-scale", "soil-temperature", "pipeline-vibration")
+COMPLETE = ("hive-scale", "soil-temperature", "pipeline-vibration", "hive-spread")
 
 
 def contribution(budget, name):

@@ -68,10 +68,30 @@ def _text(value: Any) -> str:
     return value
 
 
+#: A spread in place of a value (read before these models: resplan.designfile.spreads).
+_SPREAD_SCHEMA = {
+    "type": "object",
+    "description": "A spread: { typ, max }, { value, tolerance }, { min, max } (optionally "
+    "with typ) or { value, sigma }, each optionally with tempco.",
+    "properties": {
+        key: {"type": ["string", "number"]}
+        for key in ("typ", "max", "min", "value", "tolerance", "sigma", "tempco")
+    },
+    "additionalProperties": False,
+    "minProperties": 1,
+}
 #: A quantity written as text with its unit (``"4.5 nV/√Hz"``); read by resplan.units.parse.
-Quantity = Annotated[Any, PlainValidator(_scalar), WithJsonSchema({"type": "string"})]
+Quantity = Annotated[
+    Any,
+    PlainValidator(_scalar),
+    WithJsonSchema({"anyOf": [{"type": "string"}, _SPREAD_SCHEMA]}),
+]
 #: A plain number (or numeric text) such as a gain or a count.
-Number = Annotated[Any, PlainValidator(_scalar), WithJsonSchema({"type": ["number", "string"]})]
+Number = Annotated[
+    Any,
+    PlainValidator(_scalar),
+    WithJsonSchema({"anyOf": [{"type": ["number", "string"]}, _SPREAD_SCHEMA]}),
+]
 #: Free text; TOML dates are accepted and kept in ISO form.
 Text = Annotated[Any, PlainValidator(_text), WithJsonSchema({"type": "string"})]
 
@@ -195,6 +215,12 @@ class RequirementTable(_Table):
     temperature: Quantity = _field("Temperature of the electronics (default 25 degC).", "25 degC")
     interference: Quantity = _field(
         "Allowance reserved for interference, V rms at the sensor (default 0).", "20 nV"
+    )
+    yield_: Quantity = _field(
+        "Fraction of boards that must meet, judged by `resplan yield` on the lower bound "
+        "of its 95 % interval (read with the spreads).",
+        "99 %",
+        alias="yield",
     )
     interferer: InterfererTable | None = _field(
         "An interferer the anti-alias filter must suppress (a tone; checked as "

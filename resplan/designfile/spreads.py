@@ -41,7 +41,15 @@ from ..chain.tolerance import TEMPCO_REFERENCE_K, WORST_CASE_SIGMAS, Spread
 from ..errors import DesignError, DesignErrors
 from ..units.parse import DIMENSIONS, parse_any, parse_percent, parse_quantity
 
-__all__ = ["split_spreads", "variant_maker", "SPREAD_KEYS", "set_path", "get_path", "si_value"]
+__all__ = [
+    "DesignVariant",
+    "split_spreads",
+    "variant_maker",
+    "SPREAD_KEYS",
+    "set_path",
+    "get_path",
+    "si_value",
+]
 
 #: Keys of a spread table.
 SPREAD_KEYS = frozenset({"typ", "max", "min", "value", "tolerance", "sigma", "tempco"})
@@ -93,15 +101,17 @@ def si_value(text: Any, field: str, of: str | None = None) -> tuple[float, str]:
 
 def _text_for(value: float, written: Any, unit_key: str) -> Any:
     """``value`` (SI) written in the unit of ``written``, for the field's own reader."""
+    value = float(value)
+    # 15 significant digits: exact to 1e-15 and read back without float noise in notes.
     if unit_key == "K":
-        return f"{value!r} K"
+        return f"{value:.15g} K"
     if unit_key == "dB":
-        return f"{value!r} dB"
+        return f"{value:.15g} dB"
     unit = _unit_text(written)
     if not unit:
         return value
     factor, _ = parse_any(f"1 {unit}", "unit")
-    return f"{value / factor!r} {unit}"
+    return f"{value / factor:.15g} {unit}"
 
 
 def _read_spread(path: str, table: dict[str, Any]) -> tuple[Spread, Any]:
@@ -163,7 +173,8 @@ def _read_spread(path: str, table: dict[str, Any]) -> tuple[Spread, Any]:
         typ = values["value"]
         tol_text = table["tolerance"]
         tol, tu = parse_any(tol_text, f"{path}.tolerance")
-        if tu == "" and unit != "":
+        relative = isinstance(tol_text, str) and ("%" in tol_text or "ppm" in tol_text)
+        if tu == "" and (unit != "" or relative):
             if not 0 <= tol < 1:
                 raise DesignError(f"{path}.tolerance", tol_text, 'a tolerance such as "1 %"')
             half = abs(typ) * tol
@@ -336,9 +347,80 @@ def _temperatures(typical: Mapping[str, Any], values: Mapping[str, float]) -> tu
     return t, ts
 
 
+class DesignVariant:
+    """Rebuilds a design with some fields at other SI values (see :func:`variant_maker`)."""
+
+    def __init__(
+        self,
+        typical: Mapping[str, Any],
+        spreads: tuple[Spread, ...],
+        build: Callable[[dict], Any],
+    ):
+        self._typical = typical
+        self._build = build
+        self._tempcos = {s.field: s for s in spreads if s.tempco_per_k}
+        self._by_field = {s.field: s for s in spreads}
+        self._fields: tuple[tuple[str, float], ...] | None = None
+
+    def __call__(self, values: Mapping[str, float]) -> Any:
+        typical = self._typical
+        data = copy.deepcopy(dict(typical))
+        temps = _temperatures(typical, values)
+        for path in set(values) | set(self._tempcos):
+            raw = get_path(typical, path)
+            if path in values:
+                value = float(values[path])
+            elif path in self._by_field:
+                value = self._by_field[path].typical
+            else:  # pragma: no cover - tempco fields are spreads
+                value = si_value(raw, path)[0]
+            spread = self._tempcos.get(path)
+            if spread is not None:
+                t = temps[1] if path.startswith("sensor.") else temps[0]
+                value *= 1 + spread.tempco_per_k * (t - TEMPCO_REFERENCE_K)
+            unit = si_value(raw, path)[1]
+            if not math.isfinite(value):
+                raise DesignError(path, value, "a finite value")
+            set_path(data, path, _text_for(value, raw, unit))
+        return self._build(data)
+
+    def fields(self) -> tuple[tuple[str, float], ...]:
+        """Every numeric field of the design file: (path, typical SI value), in file order.
+
+        Values with a temperature coefficient are given at 25 °C, as :meth:`__call__` takes them.
+        """
+        if self._fields is None:
+            out: list[tuple[str, float]] = []
+            for path, value in _leaves(self._typical, ""):
+                if path in self._by_field:
+                    out.append((path, self._by_field[path].typical))
+                    continue
+                try:
+                    out.append((path, si_value(value, path)[0]))
+                except DesignError:
+                    continue
+            self._fields = tuple(out)
+        return self._fields
+
+
+def _leaves(node: Any, path: str):
+    if isinstance(node, dict):
+        for key, value in node.items():
+            yield from _leaves(value, f"{path}.{key}" if path else str(key))
+    elif isinstance(node, list):
+        for i, value in enumerate(node):
+            yield from _leaves(value, f"{path}[{i}]")
+    elif (
+        isinstance(node, str)
+        and _NUMBER.match(node)
+        or (isinstance(node, int | float) and not isinstance(node, bool))
+    ):
+        yield path, node
+
+
 def variant_maker(
     typical: Mapping[str, Any], spreads: tuple[Spread, ...], build: Callable[[dict], Any]
-) -> Callable[[Mapping[str, float]], Any]:
+) -> DesignVariant:
     """The function that rebuilds the design with some fields at other SI values.
 
     Parameters
@@ -352,32 +434,9 @@ def variant_maker(
 
     Returns
     -------
-    callable
+    DesignVariant
         ``variant({"stages[0].en": 6e-9, "requirement.temperature": 358.15})`` → design.
-        A field's value is SI at 25 °C when it has a temperature coefficient.
+        A field's value is SI at 25 °C when it has a temperature coefficient;
+        ``variant.fields()`` lists every numeric field with its typical value.
     """
-    tempcos = {s.field: s for s in spreads if s.tempco_per_k}
-    by_field = {s.field: s for s in spreads}
-
-    def variant(values: Mapping[str, float]) -> Any:
-        data = copy.deepcopy(dict(typical))
-        temps = _temperatures(typical, values)
-        for path in set(values) | set(tempcos):
-            raw = get_path(typical, path)
-            if path in values:
-                value = float(values[path])
-            elif path in by_field:
-                value = by_field[path].typical
-            else:  # pragma: no cover - tempco fields are spreads
-                value = si_value(raw, path)[0]
-            spread = tempcos.get(path)
-            if spread is not None:
-                t = temps[1] if path.startswith("sensor.") else temps[0]
-                value *= 1 + spread.tempco_per_k * (t - TEMPCO_REFERENCE_K)
-            unit = si_value(raw, path)[1]
-            if not math.isfinite(value):
-                raise DesignError(path, value, "a finite value")
-            set_path(data, path, _text_for(value, raw, unit))
-        return build(data)
-
-    return variant
+    return DesignVariant(typical, spreads, build)

@@ -28,6 +28,7 @@ EXAMPLE_NAMES: tuple[str, ...] = (
     "soil-temperature",
     "pipeline-vibration",
     "kickoff-bridge",
+    "hive-spread",
 )
 #: What ``resplan init`` writes without ``--example``.
 DEFAULT_EXAMPLE = "hive-scale"
