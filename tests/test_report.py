@@ -219,9 +219,9 @@ def test_figures_are_embedded_with_captions(a4_report):
         start=1,
     ):
         assert f"Figure {n}. {title}." in text
-    images = sum(len(page.images) for page in pages)
-    assert images >= 4
-    assert f"PNG images at {LOW_DPI} dpi" in text
+    # Vector drawings, not bitmaps: no image in the PDF at all.
+    assert sum(len(page.images) for page in pages) == 0
+    assert "Figures are vector drawings" in text
 
 
 @pytest.mark.parametrize(
@@ -254,7 +254,7 @@ def test_a_failing_figure_leaves_no_file(tmp_path, monkeypatch):
     def broken(*args, **kwargs):
         raise RuntimeError("injected failure")
 
-    monkeypatch.setattr(report, "figure_png", broken)
+    monkeypatch.setattr(report, "figure_svg", broken)
     target = tmp_path / "appendix.pdf"
     with pytest.raises(RuntimeError, match="injected"):
         write_report(invented_design(), target, dpi=LOW_DPI, sweep_counts=FEW_COUNTS)

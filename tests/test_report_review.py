@@ -90,6 +90,22 @@ def test_every_heading_has_content_after_it_on_its_page(built):
         assert where and where[0] < len(lines) - 1, f"{title!r} alone at the foot of its page"
 
 
+def path_operations(reader: pypdf.PdfReader, page) -> int:
+    """Path-construction operators (m, l, c, re) in a page's content stream."""
+    stream = pypdf.generic.ContentStream(page.get_contents(), reader)
+    return sum(op in (b"m", b"l", b"c", b"re") for _, op in stream.operations)
+
+
+def test_figures_are_vector_drawings(built):
+    # Each figure is drawn as PDF paths (PDF 32000-1:2008, 8.5.2: m, l, c, re), and
+    # the file holds no raster image at all.
+    design, _, _, reader = built
+    assert sum(len(page.images) for page in reader.pages) == 0
+    figure_pages = [p for p in reader.pages if "Figure 1." in p.extract_text()]
+    if design.is_complete:
+        assert figure_pages and path_operations(reader, figure_pages[0]) > 500
+
+
 def test_every_page_carries_the_footer(built):
     design, _, _, reader = built
     total = len(reader.pages)

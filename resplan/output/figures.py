@@ -785,12 +785,18 @@ def figure_png(fig: Figure, dpi: int = DEFAULT_DPI) -> bytes:
     return buffer.getvalue()
 
 
-def figure_svg(fig: Figure) -> bytes:
-    """The figure as SVG (text drawn as paths, no date stamp)."""
+def figure_svg(fig: Figure, *, text_as_paths: bool = True) -> bytes:
+    """The figure as SVG, with no date stamp and a fixed hash salt (the same bytes each time).
+
+    Text is drawn as paths by default, so the file looks the same without the font;
+    ``text_as_paths=False`` keeps it as text in DejaVu Sans (smaller, selectable), for
+    a reader that has the font, such as the PDF report.
+    """
     import matplotlib
 
     buffer = io.BytesIO()
-    with matplotlib.rc_context(_STYLE):
+    style = {**_STYLE, "svg.fonttype": "path" if text_as_paths else "none"}
+    with matplotlib.rc_context(style):
         fig.savefig(buffer, format="svg", metadata={"Date": None})
     return buffer.getvalue()
 

@@ -10,7 +10,7 @@ traces the document to its design file (SHA-256) and resplan version, then
    (the chain table's wording of each part in :mod:`.parts`);
 3. the allocation and per-part requirements of the backward plan — :mod:`.allocation`;
 4. the forward budget of every contributor — :mod:`.budget`;
-5. figures (:mod:`resplan.output.figures`) — :mod:`.figures`;
+5. figures (:mod:`resplan.output.figures`) as vector drawings — :mod:`.figures`;
 6. the formulas used, each with its published source — :mod:`.formulas`;
 7. measurement-safety cautions — :mod:`.safety`.
 
@@ -40,7 +40,7 @@ from ...chain.budget import Budget, forward_budget
 from ...chain.design import Design
 from ...errors import DesignError, ResplanError
 from ..atomic import atomic_path
-from ..figures import DEFAULT_DPI, figure_png, make_figures, save_figures
+from ..figures import DEFAULT_DPI, figure_svg, make_figures, save_figures
 from .allocation import allocation_section
 from .budget import budget_section
 from .canvas import canvas_class
@@ -123,7 +123,8 @@ def write_report(
         The forward budget; computed when omitted and the design is complete, as
         ``forward_budget(design.chain(), design.band, requirement=design.requirement)``.
     dpi : int
-        Resolution of the embedded PNG figures, dots per inch (200 by default).
+        Resolution of the PNG copies written to ``figures_dir``, dots per inch (200 by
+        default); the figures in the PDF are vector drawings.
     sweep_counts : tuple of int, optional
         Averaging counts for the resolution figure.
 
@@ -150,7 +151,7 @@ def write_report(
         plan, plan_note = _plan_or_note(design)
 
     figs = make_figures(design, budget, plan, sweep_counts=sweep_counts)
-    pngs = {name: figure_png(fig, dpi) for name, fig in figs.items()}
+    svgs = {name: figure_svg(fig, text_as_paths=False) for name, fig in figs.items()}
 
     width = pagesize[0] - 2 * MARGIN
     w = Writer(width)
@@ -163,7 +164,7 @@ def write_report(
     story += allocation_section(w, design, plan, plan_note)
     story += budget_section(w, design, budget)
     story.append(PageBreak())
-    story += figures_section(w, figs, pngs, dpi)
+    story += figures_section(w, figs, svgs)
     story.append(PageBreak())
     story += formulas_section(w)
     story += safety_section(w)
@@ -192,5 +193,5 @@ def write_report(
         doc.addPageTemplates([PageTemplate(id="page", frames=[frame])])
         doc.build(story, canvasmaker=canvas_class(footer, w.f["regular"], w.unicode))
         if figures_dir is not None:
-            save_figures(figs, figures_dir, dpi=dpi, pngs=pngs)
+            save_figures(figs, figures_dir, dpi=dpi)
     return target

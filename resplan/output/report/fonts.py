@@ -61,3 +61,20 @@ def fonts() -> dict[str, str]:
     addMapping("ResplanSans", 1, 1, "ResplanSans-Bold")
     _FONTS = {**registered, "unicode": "yes"}
     return _FONTS
+
+
+_SVG_FONTS = False
+
+
+def register_svg_fonts() -> None:
+    """Let svglib draw the figures' text (DejaVu Sans, as matplotlib writes it) in the PDF."""
+    global _SVG_FONTS
+    if _SVG_FONTS:
+        return
+    files = _font_files()
+    if files is not None:
+        from svglib.fonts import register_font
+
+        register_font("DejaVu Sans", str(files["regular"]))
+        register_font("DejaVu Sans", str(files["bold"]), weight="bold")
+    _SVG_FONTS = True
