@@ -54,13 +54,16 @@ class NoiseAtRate:
     scale_with_rate : bool
         Allow use at another data rate, scaling as √(ODR/ODR_quoted), which holds
         for white noise only. Without it a mismatch is an error.
+    includes_quantisation : bool
+        Whether the figure already holds quantisation noise (the usual case for a
+        measured noise table). When false the budget adds q/√12 itself (Bennett 1948).
     """
 
     rms_v: float
     data_rate_hz: float
     gain: float | None = None
     scale_with_rate: bool = False
-    includes_quantisation = True
+    includes_quantisation: bool = True
 
     def __post_init__(self) -> None:
         check_nonnegative("noise", self.rms_v, "a noise ≥ 0 V rms")
@@ -97,7 +100,8 @@ class NoiseTable:
 
     rows: tuple[tuple[float, float], ...]
     gain: float | None = None
-    includes_quantisation = True
+    #: Whether the rows already hold quantisation; when false the budget adds q/√12.
+    includes_quantisation: bool = True
 
     def __post_init__(self) -> None:
         if not self.rows:

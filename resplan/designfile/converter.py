@@ -185,6 +185,7 @@ def read_adc(r: TableReader, t: AdcTable, reference: Any, ref_table: ReferenceTa
                 "noise_data_rate",
                 "noise_gain",
                 "scale_with_rate",
+                "noise_includes_quantisation",
                 "noise_table",
                 "noise_table_pp",
                 "snr",
@@ -307,7 +308,7 @@ def _adc_noise(r: TableReader, t: AdcTable, gain: float | None) -> Any:
         r.refuse(
             t,
             p,
-            ("noise_gain",),
+            ("noise_gain", "noise_includes_quantisation"),
             f"a field only with noise or a noise table (the noise is given as {form})",
         )
     if form != "snr":
@@ -321,6 +322,7 @@ def _adc_noise(r: TableReader, t: AdcTable, gain: float | None) -> Any:
     elif t.pp_factor is not None:
         r.bad(f"{p}.pp_factor", t.pp_factor, "a factor only with noise_pp or noise_table_pp")
     noise_gain = None
+    with_quantisation = t.noise_includes_quantisation is not False
     if form in rate_forms + table_forms:
         noise_gain = r.number(t.noise_gain, f"{p}.noise_gain", "a gain > 0 V/V")
         if t.noise_gain is None and gain is not None and gain != 1:
@@ -342,7 +344,9 @@ def _adc_noise(r: TableReader, t: AdcTable, gain: float | None) -> Any:
         if pp:
             r.notes.append(f"ADC noise {t.noise_pp} p-p divided by the stated factor {k:g}")
             value /= k
-        return r.build(p, NoiseAtRate, value, at, noise_gain, bool(t.scale_with_rate))
+        return r.build(
+            p, NoiseAtRate, value, at, noise_gain, bool(t.scale_with_rate), with_quantisation
+        )
     if form in table_forms:
         rows = []
         for i, (rate_text, noise_text) in enumerate(getattr(t, form)):
@@ -357,7 +361,7 @@ def _adc_noise(r: TableReader, t: AdcTable, gain: float | None) -> Any:
         if pp:
             r.notes.append(f"ADC noise table in p-p divided by the stated factor {k:g}")
             rows = [(a, b / k) for a, b in rows]
-        return r.build(p, NoiseTable, tuple(rows), noise_gain)
+        return r.build(p, NoiseTable, tuple(rows), noise_gain, with_quantisation)
     if form == "snr":
         snr = r.level_db(t.snr, f"{p}.snr")
         if snr is None:

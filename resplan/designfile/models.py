@@ -412,6 +412,12 @@ class AdcTable(_Table):
         False,
         strict=True,
     )
+    noise_includes_quantisation: bool | None = _field(
+        "Whether noise, noise_pp or the noise table already holds quantisation "
+        "(default true); when false, q/√12 is added.",
+        False,
+        strict=True,
+    )
     noise_table: list[tuple[Quantity, Quantity]] | None = _field(
         "Rows of [data rate, noise rms]; the ADC's data rate picks the row.",
         [["10 Hz", "40 nV"], ["20 Hz", "56 nV"]],

@@ -1,0 +1,68 @@
+"""Model options of the Python API and the design file.
+
+- A converter figure stated without quantisation gets q/√12 added (Bennett,
+  "Spectra of quantized signals", Bell Syst. Tech. J. 27, 1948); with it, nothing.
+Chains are INVENTED (tests/invented.py); the design text is the embedded
+hive-scale example (invented).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import replace
+
+import pytest
+from invented import invented_bridge_chain
+
+from resplan import Band, NoiseAtRate, NoiseTable, forward_budget
+from resplan.designfile.examples import example_text
+from resplan.designfile.load import check_design, loads_design
+from resplan.errors import DesignErrors
+
+
+def _with_noise(noise):
+    chain = invented_bridge_chain()
+    return replace(chain, adc=replace(chain.adc, noise=noise))
+
+
+@pytest.mark.parametrize(
+    "make",
+    [
+        lambda q: NoiseAtRate(0.2e-6, 10.0, includes_quantisation=q),
+        lambda q: NoiseTable(((10.0, 0.2e-6),), includes_quantisation=q),
+    ],
+)
+def test_a_figure_without_quantisation_gets_q_over_root_12(make):
+    with_q = forward_budget(_with_noise(make(True)), Band(0.1, 10.0))
+    without = forward_budget(_with_noise(make(False)), Band(0.1, 10.0))
+    assert "adc.quantisation" not in with_q
+    q = without["adc.quantisation"]
+    lsb = invented_bridge_chain().adc.full_scale_range_v / 2 ** invented_bridge_chain().adc.bits
+    assert q.adc_rms_v == pytest.approx(lsb / math.sqrt(12), rel=1e-12)  # Bennett 1948
+    assert without["adc.noise"].adc_rms_v == with_q["adc.noise"].adc_rms_v
+    assert without.total_rms_v**2 == pytest.approx(with_q.total_rms_v**2 + q.rms_v**2, rel=1e-12)
+
+
+def _hive(extra: str) -> str:
+    text = example_text("hive-scale")
+    return text.replace("[adc]\n", "[adc]\n" + extra + "\n", 1)
+
+
+def test_design_file_states_a_figure_without_quantisation():
+    base = check_design(loads_design(example_text("hive-scale"), "h.toml"))
+    noise = loads_design(_hive("noise_includes_quantisation = false"), "h.toml").chain().adc.noise
+    assert noise.includes_quantisation is False
+    other = check_design(loads_design(_hive("noise_includes_quantisation = false"), "h.toml"))
+    assert "adc.quantisation" in other and "adc.quantisation" not in base
+
+
+def test_design_file_refuses_it_with_a_figure_that_holds_quantisation_by_definition():
+    # An SNR holds quantisation by definition (IEEE Std 1241): the option is refused with it.
+    import re
+
+    text = _hive("noise_includes_quantisation = true")
+    text = re.sub(r"(?ms)^noise_table = \[.*?^\]\nnoise_gain = 128\n", 'snr = "100 dB"\n', text)
+    assert "noise_table" not in text
+    with pytest.raises(DesignErrors) as info:
+        loads_design(text, "h.toml")
+    assert "adc.noise_includes_quantisation" in str(info.value)
