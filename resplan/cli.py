@@ -58,21 +58,47 @@ _CONTEXT = {"help_option_names": ["-h", "--help"], "max_content_width": 100}
 
 
 def fail(lines: str | list[str]) -> NoReturn:
-    """Print each problem as one ``error:`` line on stderr and exit with code 2."""
+    """Print each problem as one ``error:`` line on stderr and exit with code 2.
+
+    A string holds one problem per ``\n``; control characters and line separators
+    inside a problem are escaped, so that none is ever split over lines.
+    """
+    from .errors import escaped
+
     if isinstance(lines, str):
-        lines = lines.splitlines() or [lines]
-    for line in lines:
-        click.echo(f"error: {line}", err=True)
+        lines = lines.split("\n")
+    for line in dict.fromkeys(lines):  # each problem once
+        click.echo(f"error: {escaped(line)}", err=True)
     sys.exit(EXIT_BAD_INPUT)
 
 
 @contextlib.contextmanager
-def exit_on_error() -> Iterator[None]:
-    """Turn any :class:`ResplanError` raised inside into ``error:`` lines and exit 2."""
+def exit_on_error(design: Design | None = None) -> Iterator[None]:
+    """Turn any :class:`ResplanError` raised inside into ``error:`` lines and exit 2.
+
+    With ``design``, a problem found while computing names the design file and the
+    part's table (``stages[1].gain``), as the problems found when reading it do.
+    Numpy's floating-point warnings are silenced inside (a result that is not
+    finite is caught and reported instead), and an overflow in the arithmetic
+    is one line naming the design, never a traceback.
+    """
+    import numpy as np
+
     try:
-        yield
+        with np.errstate(all="ignore"):
+            yield
     except ResplanError as err:
+        if design is not None:
+            from .designfile.load import placed
+
+            err = placed(err, design)
         fail(str(err))
+    except ArithmeticError as err:  # overflow, division by zero, decimal errors
+        where = f"{design.source}: " if design is not None and design.source else ""
+        fail(
+            f"{where}design: a figure overflows or vanishes while computing "
+            f"({type(err).__name__}); check the largest and smallest values and the gains"
+        )
 
 
 def load_design_or_exit(path: str) -> Design:
@@ -104,22 +130,25 @@ def emit_json(data: Any) -> None:
 def write_text_atomic(path: Path, text: str, *, force: bool = False) -> None:
     """Write ``text`` to ``path`` through a temporary file in the same folder and a rename.
 
-    Never leaves a half-written file; refuses to replace an existing file unless ``force``.
+    Never leaves a half-written file; refuses to replace an existing file unless
+    ``force``, and anything that is not a regular file or a new path always.
 
     Raises
     ------
-    click.ClickException
+    FileExistsError, FileNotFoundError, IsADirectoryError, ResplanError, OSError
         Handled by the callers: they turn it into one ``error:`` line.
     """
+    from .output.atomic import check_output_target
     from .output.atomic import write_text_atomic as write
 
     folder = path.parent if str(path.parent) else Path(".")
     if not folder.is_dir():
         raise FileNotFoundError(f"{folder}: no such folder")
-    if path.exists() and not force:
-        raise FileExistsError(f"{path}: exists; use --force to overwrite it")
     if path.is_dir():
         raise IsADirectoryError(f"{path}: is a folder")
+    if path.exists() and not force:
+        raise FileExistsError(f"{path}: exists; use --force to overwrite it")
+    check_output_target(path, "PATH")
     write(path, text)
 
 
@@ -129,7 +158,8 @@ def write_text_atomic(path: Path, text: str, *, force: bool = False) -> None:
 
 @click.group(context_settings=_CONTEXT)
 @click.version_option(__version__, "-V", "--version", prog_name="resplan")
-def main() -> None:
+@click.pass_context
+def main(ctx: click.Context) -> None:
     """Plan the resolution of a measurement signal chain: noise budgets with sources.
 
     \b
@@ -146,6 +176,10 @@ def main() -> None:
     mains or high voltage need isolation and protection that no noise budget
     decides: follow local codes and licensed practice.
     """
+    from .output.atomic import sigterm_as_interrupt
+
+    # SIGTERM (a CI timeout, a service stop) is handled like Ctrl-C: temporary files go.
+    ctx.with_resource(sigterm_as_interrupt())
 
 
 @main.command()
@@ -186,7 +220,7 @@ def init(path: Path | None, name: str | None, list_only: bool, force: bool) -> N
     target = path or Path(f"{name}.toml")
     try:
         write_text_atomic(target, text, force=force)
-    except (FileExistsError, FileNotFoundError, IsADirectoryError) as err:
+    except (FileExistsError, FileNotFoundError, IsADirectoryError, ResplanError) as err:
         fail(str(err))
     except OSError as err:
         fail(f"{target}: cannot write ({err.strerror or err})")
@@ -235,7 +269,7 @@ def check(design: str, as_json: bool, ascii_only: bool, worst_case: bool) -> Non
 
     loaded = load_design_or_exit(design)
     ascii_only = wants_ascii(ascii_only)
-    with exit_on_error():
+    with exit_on_error(loaded):
         corner = corner_of(loaded) if worst_case else None
         judged_design = corner.design if corner else loaded
         budget = check_design(judged_design)
@@ -385,7 +419,7 @@ def plan(design: str, weights: str | None, as_json: bool, ascii_only: bool) -> N
     from .plan.allocation import parse_weights, plan_design
 
     loaded = load_design_or_exit(design)
-    with exit_on_error():
+    with exit_on_error(loaded):
         overrides = parse_weights(weights) if weights else None
         result = plan_design(loaded, overrides)
     if as_json:
@@ -402,7 +436,8 @@ def plan(design: str, weights: str | None, as_json: bool, ascii_only: bool) -> N
     "--output",
     default="report.pdf",
     show_default=True,
-    type=click.Path(dir_okay=False),
+    metavar="PATH",
+    # checked by resplan (one error line, before any work), not by click
     help="The PDF to write (atomically: an existing file is replaced only on success).",
 )
 @click.option(
@@ -414,7 +449,7 @@ def plan(design: str, weights: str | None, as_json: bool, ascii_only: bool) -> N
 @click.option(
     "--figures",
     "figures_dir",
-    type=click.Path(file_okay=False),
+    metavar="FOLDER",
     help="Also write every figure as PNG and SVG into this folder.",
 )
 @click.option("--weights", metavar="NAME=W,...", help="Allocation weights for the plan section.")
@@ -433,13 +468,34 @@ def report(
       resplan report design.toml -o appendix.pdf --paper letter --figures figures/
     """
     from .designfile.examples import DEFAULT_EXAMPLE, load_example
+    from .designfile.load import check_design
+    from .errors import escaped
+    from .output.atomic import check_output_folder, check_output_target
+
+    # The targets are checked before any work, so a bad -o or --figures costs nothing.
+    with exit_on_error():
+        check_output_target(output, "--output")
+        if figures_dir is not None:
+            check_output_folder(figures_dir, "--figures")
+    loaded = load_design_or_exit(design) if design else load_example(DEFAULT_EXAMPLE)
     from .output.report import write_report
     from .plan.allocation import parse_weights, plan_design
 
-    loaded = load_design_or_exit(design) if design else load_example(DEFAULT_EXAMPLE)
-    with exit_on_error():
+    with exit_on_error(loaded):
         the_plan = None
         if weights:
             the_plan = plan_design(loaded, parse_weights(weights))
-        path = write_report(loaded, output, paper=paper, figures_dir=figures_dir, plan=the_plan)
-    click.echo(f"wrote {path}")
+        budget = check_design(loaded) if loaded.is_complete else None
+        try:
+            path = write_report(
+                loaded,
+                output,
+                paper=paper,
+                figures_dir=figures_dir,
+                plan=the_plan,
+                budget=budget,
+            )
+        except OSError as err:  # a full disk, a file-size limit, a folder made read-only
+            where = err.filename if isinstance(err.filename, str) else output
+            fail(f"{escaped(where)}: cannot write ({err.strerror or err}); nothing was written")
+    click.echo(f"wrote {escaped(str(path))}")

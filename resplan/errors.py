@@ -65,7 +65,7 @@ def _toml(value: Any, budget: int, depth: int = 0) -> str:
             return "nan"
         if math.isinf(value):
             return "inf" if value > 0 else "-inf"
-        return repr(value)
+        return repr(value).replace("e+", "e")  # 1e308, as written, not 1e+308
     if isinstance(value, dt.datetime | dt.date | dt.time):
         return value.isoformat()
     if isinstance(value, list | tuple | dict):

@@ -30,6 +30,7 @@ Examples
 from __future__ import annotations
 
 import hashlib
+import math
 import re
 import tomllib
 from collections.abc import Mapping
@@ -38,7 +39,7 @@ from typing import Any
 
 from ..chain.design import Design, Meta, OpenPart, Revision
 from ..chain.signal_chain import ROOM_TEMPERATURE_K
-from ..errors import DesignError, DesignErrors, describe_value, escaped
+from ..errors import DesignError, DesignErrors, ResplanError, describe_value, escaped
 from .bounds import MAX_FILE_BYTES, DesignFileError, capped, check_bounds, read_bounded
 from .converter import (
     MAX_AVERAGE,
@@ -72,6 +73,7 @@ __all__ = [
     "design_from_mapping",
     "design_schema",
     "check_design",
+    "placed",
     "STAGE_TYPES",
     "MAX_DECIMATION",
     "MAX_AVERAGE",
@@ -325,16 +327,47 @@ def check_design(design: Design, *, grid_points: int = 2000):
     ChainError
         A chain valid field by field that cannot be computed.
     """
+    import numpy as np
+
     from ..chain.budget import forward_budget
+    from ..errors import ChainError
 
     chain = design.chain()
     try:
-        return forward_budget(
-            chain, design.band, requirement=design.requirement, grid_points=grid_points
-        )
+        with np.errstate(all="ignore"):  # a figure that is not finite is caught below
+            budget = forward_budget(
+                chain, design.band, requirement=design.requirement, grid_points=grid_points
+            )
+        # Edges validate, the core trusts: the ranges keep every figure finite, and this
+        # check says where, should a combination of them still overflow.
+        for item in budget.contributions:
+            if not (math.isfinite(item.rms_v) and math.isfinite(item.adc_rms_v)):
+                raise ChainError(
+                    item.stage,
+                    item.name,
+                    f"figures whose noise stays finite (its {item.name} is "
+                    f"{item.rms_v:g} V rms at the sensor)",
+                )
+        if not math.isfinite(budget.total_rms_v):
+            raise ChainError("design", "?", "figures whose total noise stays finite")
+        return budget
     except DesignError as err:  # name the file and the table, as every other problem does
         err = _with_place(err, design)
         raise with_source(err, design.source) if design.source else err from None
+
+
+def placed(err: ResplanError, design: Design) -> ResplanError:
+    """A problem found while computing ``design``, naming its file and the part's table.
+
+    ``front end.gain`` becomes ``hive.toml: stages[0].gain``, as the problems found
+    when reading the file read; several problems are each placed.
+    """
+    if isinstance(err, DesignErrors):
+        return DesignErrors(placed(e, design) for e in err.errors)
+    if not isinstance(err, DesignError):
+        return err
+    err = _with_place(err, design)
+    return with_source(err, design.source) if design.source else err
 
 
 def _with_place(err: DesignError, design: Design) -> DesignError:
