@@ -348,7 +348,7 @@ def yield_(
     from .spread.trials import run_trials
 
     loaded = load_design_or_exit(design)
-    with exit_on_error():
+    with exit_on_error(loaded):
         model = build_model(loaded)
         with _progress(trials) as tick:
             result = run_trials(model, trials, seed, progress=tick, exact=exact)
