@@ -32,6 +32,15 @@ def _value(value: float, unit: str) -> str:
     return format_si(value, unit) if unit else f"{value:.4g}"
 
 
+def _yield_percent(fraction: float) -> str:
+    """A yield or bound with enough digits to tell it from 100 % (99.999631 %)."""
+    import math
+
+    if fraction >= 1.0 or fraction < 0.99:
+        return format_percent(fraction, 3 if fraction < 0.99 else 4)
+    return format_percent(fraction, 2 + math.ceil(-math.log10(1.0 - fraction)))
+
+
 def figures_line(design: Design, corner: bool = False) -> str:
     """Which figures the budget above used."""
     n = sum(1 for s in design.spreads if s.varies)
@@ -99,10 +108,10 @@ def format_trials(result: TrialResult, design: Design, *, ascii_only: bool = Fal
         lines.append("  none: every trial is the typical design")
     lines += [
         "",
-        f"Yield: {format_percent(result.yield_fraction)} of boards meet every verdict item "
+        f"Yield: {_yield_percent(result.yield_fraction)} of boards meet every verdict item "
         f"({result.met:,} of {result.trials:,})",
-        f"  95 % interval (Clopper–Pearson exact): {format_percent(lo, 5)} … "
-        f"{format_percent(hi, 5)}",
+        f"  95 % interval (Clopper–Pearson exact): {_yield_percent(lo)} … "
+        f"{_yield_percent(hi)}",
     ]
     if result.fixed_failures:
         lines.append(
@@ -149,12 +158,12 @@ def format_trials(result: TrialResult, design: Design, *, ascii_only: bool = Fal
         lines.append('VERDICT: no yield requirement stated (set requirement.yield, such as "99 %")')
     elif result.meets:
         lines.append(
-            f"VERDICT: MEETS the yield requirement: lower bound {format_percent(lo, 5)} ≥ "
+            f"VERDICT: MEETS the yield requirement: lower bound {_yield_percent(lo)} ≥ "
             f"{format_percent(req)}"
         )
     else:
         lines.append(
-            f"VERDICT: DOES NOT MEET the yield requirement: lower bound {format_percent(lo, 5)} < "
+            f"VERDICT: DOES NOT MEET the yield requirement: lower bound {_yield_percent(lo)} < "
             f"{format_percent(req)}"
         )
     lines.append(

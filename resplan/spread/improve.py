@@ -40,7 +40,7 @@ _RULES: tuple[tuple[str, str, float], ...] = (
     (r"^stages\[\d+\]\.\w*corner$", "1/f corner", 1 - STEP),
     (r"^stages\[\d+\]\.(resistance|noise_resistance)$", "resistance", 1 - STEP),
     (r"^stages\[\d+\]\.cutoff$", "cut-off", 1 - STEP),
-    (r"^stages\[\d+\]\.capacitance$", "cut-off (capacitance 1/0.9)", 1 / (1 - STEP)),
+    (r"^stages\[\d+\]\.capacitance$", "cut-off 10 % lower (capacitance ÷ 0.9)", 1 / (1 - STEP)),
     (r"^stages\[\d+\]\.gain$", "gain", 1 + STEP),
     (r"^sensor\.resistance$", "source resistance R_s", 1 - STEP),
     (r"^sensor\.noise_density$", "sensor noise", 1 - STEP),
@@ -115,7 +115,7 @@ def _candidates(design: Design) -> list[tuple[str, tuple[str, ...], dict[str, fl
     out = []
     for key, (what, fields, values) in groups.items():
         better = "higher" if what == "gain" else "lower"
-        if what.startswith("ADC noise (SNR") or what.startswith("cut-off (capacitance"):
+        if what.startswith("ADC noise (SNR") or what.startswith("cut-off 10 %"):
             text = f"{key}: {what}"
         else:
             text = f"{key}: {what} {int(STEP * 100)} % {better}"
