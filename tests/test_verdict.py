@@ -173,3 +173,20 @@ def test_bad_interferer_is_one_line_exit_2(runner, tmp_path, entry, field):
     assert result.exit_code == 2
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1 and field in lines[0], lines
+
+
+def test_plan_is_infeasible_when_no_filter_order_suppresses_the_interferer(runner, tmp_path):
+    # The accelerometer channel with its Bessel filter open, cut-off at the band top:
+    # no order up to 8 takes the 82 kHz resonance down to its allowance.
+    text = ACCELEROMETER.replace(
+        'type = "active_filter"', 'type = "active_filter"\nopen = true'
+    ).replace('noise_resistance = "4 kohm"\nen = "8 nV/√Hz"\n', "")
+    path = tmp_path / "open.toml"
+    path.write_text(text, encoding="utf-8")
+    result = runner.invoke(main, ["plan", str(path)])
+    assert result.exit_code == 1
+    assert "INFEASIBLE" in result.stdout.splitlines()[-1]
+    assert "suppresses the stated interferer" in result.stdout
+    data = json.loads(runner.invoke(main, ["plan", "--json", str(path)]).stdout)
+    assert data["feasible"] is False
+    assert any("suppresses the stated interferer" in r for r in data["reasons"])

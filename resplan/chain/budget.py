@@ -66,6 +66,7 @@ from .converter import (
     NoiseTable,
     SnrNoise,
     TransitionNoise,
+    jitter_noise_rms,
 )
 from .requirement import DEFAULT_COVERAGE, Requirement
 from .resolution import dynamic_range_db, effective_bits, noise_free_bits, noise_free_counts
@@ -88,7 +89,16 @@ __all__ = [
 ]
 
 #: Kinds of contribution.
-KINDS = ("thermal", "sensor", "voltage", "current", "reference", "adc", "quantisation")
+KINDS = (
+    "thermal",
+    "sensor",
+    "voltage",
+    "current",
+    "reference",
+    "adc",
+    "quantisation",
+    "jitter",
+)
 #: A source under 1/5 of the largest adds only ~2 % to the total (common practice, no source).
 DOMINANCE_RATIO = 0.2
 
@@ -544,6 +554,7 @@ def forward_budget(
 
     _reference_contribution(c, chain, band)
     adc_alone_rms = _adc_contributions(c, chain, band, warnings)
+    _jitter_contribution(c, chain, band, requirement, warnings)
 
     total = math.sqrt(sum(x.rms_v**2 for x in c.items))
     items = sorted(c.items, key=lambda x: x.rms_v, reverse=True)
@@ -788,3 +799,51 @@ def _adc_contributions(c: _Collector, chain: Chain, band: Band, warnings: list[s
                     "reduce quantisation as counted (no dither)"
                 )
     return math.sqrt(total_sq) / post_rms
+
+
+def _jitter_contribution(
+    c: _Collector,
+    chain: Chain,
+    band: Band,
+    requirement: Requirement | None,
+    warnings: list[str],
+) -> None:
+    """Aperture jitter on a full-span sine at the signal frequency (IEEE Std 1241 / Kester).
+
+    The error 2π·f·A_rms·σ_j (Kester, *Data Conversion Handbook*, 2005, ch. 2, from
+    memory) is taken at the largest input: a sine over the whole span at the ADC,
+    A_rms = span·G/(2√2). Random sample-to-sample jitter makes it white over the
+    first Nyquist zone, so a SAR's digital post-filter scales it as it scales the
+    converter's own noise; a delta-sigma ADC's figure is kept whole (conservative).
+    """
+    adc = chain.adc
+    if adc.aperture_jitter_s == 0:
+        return
+    frequency = None
+    how = ""
+    if requirement is not None and requirement.signal_frequency_hz is not None:
+        frequency, how = requirement.signal_frequency_hz, "the stated signal frequency"
+    elif band.f_high_hz is not None:
+        frequency, how = band.f_high_hz, "the band top (no signal frequency stated)"
+    if frequency is None:
+        warnings.append(
+            "aperture jitter not counted: state requirement.signal_frequency or a band top"
+        )
+        return
+    amplitude = chain.sensor.span_v * chain.total_gain / (2.0 * math.sqrt(2.0))
+    rms = float(jitter_noise_rms(frequency, amplitude, adc.aperture_jitter_s))
+    factor = chain.post_variance_factor() if adc.architecture == "sar" else 1.0
+    note = (
+        f"2π·f·A_rms·σ_j at {frequency:.4g} Hz ({how}), A_rms = {amplitude:.4g} V "
+        f"(full span at the ADC), σ_j = {adc.aperture_jitter_s:.3g} s"
+    )
+    if factor != 1.0:
+        note += f", × {math.sqrt(factor):.3g} by the digital post-filter"
+    c.at_adc(
+        "aperture jitter",
+        adc.name,
+        "jitter",
+        rms * math.sqrt(factor),
+        note,
+        id=contribution_id("adc", "jitter"),
+    )

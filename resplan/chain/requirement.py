@@ -45,6 +45,19 @@ class Requirement:
     engineering_per_volt : float, optional
         Measurand per volt at the sensor output (capacity/span), to show noise in
         engineering units.
+    passband_flatness_db : float, optional
+        Largest gain error allowed at the band top (analog and digital responses
+        together), dB (> 0); the droop is always reported, checked when given.
+    headroom : float
+        Fraction of the ADC range kept free (0.1 keeps the span within 90 % of it);
+        the planner's gain choice keeps it and ``check`` fails a span past it.
+    settling_time_s : float, optional
+        Longest settling time allowed after a step or a multiplexer switch, s.
+    channel_rate_hz : float, optional
+        Lowest settled result rate each multiplexed channel must get, Hz.
+    signal_frequency_hz : float, optional
+        Highest frequency of the signal, Hz: the aperture jitter of the ADC is
+        evaluated for a full-span sine there (the band top when omitted).
 
     Examples
     --------
@@ -61,6 +74,11 @@ class Requirement:
     description: str = ""
     engineering_unit: str = ""
     engineering_per_volt: float | None = None
+    passband_flatness_db: float | None = None
+    headroom: float = 0.0
+    settling_time_s: float | None = None
+    channel_rate_hz: float | None = None
+    signal_frequency_hz: float | None = None
 
     def __post_init__(self) -> None:
         check_positive("requirement.span", self.span_v, "a span > 0 V")
@@ -88,6 +106,17 @@ class Requirement:
         check_nonnegative(
             "requirement.interference", self.interference_rms_v, "an allowance ≥ 0 V rms"
         )
+        check_nonnegative("requirement.headroom", self.headroom, "a headroom from 0 to 90 %")
+        if self.headroom > 0.9:
+            raise DesignError("requirement.headroom", self.headroom, "a headroom from 0 to 90 %")
+        for name, value, what in (
+            ("passband_flatness", self.passband_flatness_db, "a flatness > 0 dB"),
+            ("settling_time", self.settling_time_s, "a settling time > 0 s"),
+            ("channel_rate", self.channel_rate_hz, "a rate > 0 Hz"),
+            ("signal_frequency", self.signal_frequency_hz, "a frequency > 0 Hz"),
+        ):
+            if value is not None:
+                check_positive(f"requirement.{name}", value, what)
 
     @property
     def k_pp(self) -> float:

@@ -16,12 +16,24 @@ Items (stable strings, the same in Python, JSON and the report):
 ``interferer[i]``   residue of the i-th stated interferer (a tone, mains pickup
                     at its worst frequency, a spectrum) through the whole chain
                     against its allowance, V rms at the sensor
+``headroom``        fraction of the ADC range the span uses against 1 − the
+                    stated headroom
+``passband_flatness`` gain error at the band top (analog and digital) against
+                    the stated flatness, dB
+``settling``        settling time of the conversion and digital path after a
+                    step or a multiplexer switch against the stated limit, s
+``channel_rate``    settled results per second each multiplexed channel gets
+                    against the stated minimum, Hz
 ==================  ==========================================================
 
 The checks on numbers (:func:`noise_exceeds`, :func:`range_exceeds`) are pure
-and accept numpy arrays, so a Monte Carlo run can judge every trial at once.
-Interferer residues depend on the filter responses and the sample rate; they do
-not vary with spreads of noise densities.
+and accept numpy arrays, so a Monte Carlo run can judge every trial at once:
+noise (with jitter, which enters the budget as the contributor ``adc.jitter``),
+the input window and headroom vary with spreads of gains and noise figures.
+Interferer residues, pass-band droop, settling and the per-channel rate depend
+only on the filter responses, the rates and the channel count; they do not
+vary with spreads of noise densities (a spread of a filter's cut-off or of a
+gain moves them, and a trial then needs its own chain).
 """
 
 from __future__ import annotations
@@ -32,10 +44,13 @@ from typing import TYPE_CHECKING, Any
 import numpy as np
 
 from .interference import Residue
+from .passband import Droop, passband_droop
+from .timing import DigitalTiming, digital_timing
 
 if TYPE_CHECKING:  # pragma: no cover
     from .budget import Budget
     from .design import Design
+    from .requirement import Requirement
     from .signal_chain import Chain
 
 __all__ = [
@@ -99,12 +114,20 @@ class Verdict:
         Every item that was checked, failed or not.
     interference : tuple of Residue
         Every stated interferer through the chain, for the outputs to show.
+    droop : Droop or None
+        Pass-band gain error at the band top, always reported.
+    timing : DigitalTiming or None
+        Settling, latency and per-channel rate, always reported.
     """
 
     failures: tuple[Failure, ...] = ()
     checked: tuple[str, ...] = ()
     #: Every stated interferer through the chain, failed or not (for the outputs).
     interference: tuple[Residue, ...] = ()
+    #: Gain error at the band top (None without a band top or a chain).
+    droop: Droop | None = None
+    #: Settling, latency and per-channel rate (None without a chain).
+    timing: DigitalTiming | None = None
 
     @property
     def meets(self) -> bool:
@@ -120,6 +143,9 @@ class Verdict:
             "meets_requirement": self.meets,
             "failures": [f.to_dict() for f in self.failures],
             "checked": list(self.checked),
+            "interferers": [r.to_dict() for r in self.interference],
+            "passband": None if self.droop is None else self.droop.to_dict(),
+            "timing": None if self.timing is None else self.timing.to_dict(),
         }
 
 
@@ -245,11 +271,126 @@ def _residue_message(r: Residue) -> str:
     )
 
 
+def _headroom(budget: Budget, out: list[Failure], checked: list[str]) -> None:
+    req = budget.requirement
+    if req is None or req.headroom == 0:
+        return
+    checked.append("headroom")
+    used, limit = budget.adc_range_used, 1.0 - req.headroom
+    if bool(range_exceeds(used, limit)) and not bool(range_exceeds(used)):
+        out.append(
+            Failure(
+                "headroom",
+                used,
+                limit,
+                "",
+                f"the sensor span uses {used * 100:.3g} % of the ADC range, past the "
+                f"{limit * 100:.3g} % that keeps the stated {req.headroom * 100:.3g} % "
+                "headroom: lower the gain",
+            )
+        )
+
+
+def _flatness(
+    req: Requirement | None, droop: Droop | None, out: list[Failure], checked: list[str]
+) -> None:
+    if req is None or req.passband_flatness_db is None:
+        return
+    checked.append("passband_flatness")
+    limit = req.passband_flatness_db
+    if droop is None:
+        out.append(
+            Failure(
+                "passband_flatness",
+                float("nan"),
+                limit,
+                "dB",
+                "pass-band flatness cannot be checked: the band top (requirement.f_high) "
+                "is not stated",
+            )
+        )
+        return
+    error = abs(droop.total_db)
+    if error > limit * (1 + RELATIVE_SLACK):
+        out.append(
+            Failure(
+                "passband_flatness",
+                error,
+                limit,
+                "dB",
+                f"the signal is {droop.total_db:.3g} dB at the band top "
+                f"{_si(droop.frequency_hz, 'Hz')} ({droop.analog_db:.3g} dB analog, "
+                f"{droop.digital_db:.3g} dB digital), past the ±{limit:.3g} dB allowed",
+            )
+        )
+
+
+def _timing(
+    req: Requirement | None, timing: DigitalTiming | None, out: list[Failure], checked: list[str]
+) -> None:
+    if req is None or timing is None:
+        return
+    if req.settling_time_s is not None:
+        checked.append("settling")
+        limit = req.settling_time_s
+        got = timing.settling_s
+        if got is None:
+            out.append(
+                Failure(
+                    "settling",
+                    float("nan"),
+                    limit,
+                    "s",
+                    "settling cannot be checked: the band-limit FIR's length "
+                    "(digital.band_limit_taps) is not stated",
+                )
+            )
+        elif got > limit * (1 + RELATIVE_SLACK):
+            out.append(
+                Failure(
+                    "settling",
+                    got,
+                    limit,
+                    "s",
+                    f"the digital path settles in {_si(got, 's')} after a step or a channel "
+                    f"switch, longer than the {_si(limit, 's')} allowed",
+                )
+            )
+    if req.channel_rate_hz is not None:
+        checked.append("channel_rate")
+        limit = req.channel_rate_hz
+        got = timing.channel_rate_hz
+        if got is None:
+            out.append(
+                Failure(
+                    "channel_rate",
+                    float("nan"),
+                    limit,
+                    "Hz",
+                    "the per-channel rate cannot be checked: the band-limit FIR's length "
+                    "(digital.band_limit_taps) is not stated",
+                )
+            )
+        elif got < limit * (1 - RELATIVE_SLACK):
+            out.append(
+                Failure(
+                    "channel_rate",
+                    got,
+                    limit,
+                    "Hz",
+                    f"each of {timing.channels} channels gets {_si(got, 'Hz')} of settled "
+                    f"results, below the {_si(limit, 'Hz')} required",
+                )
+            )
+
+
 def judge(
     budget: Budget,
     chain: Chain | None = None,
     interferers: tuple[Residue, ...] = (),
 ) -> Verdict:
+    # A chain gives the droop at the budget's band top and the timing; without one
+    # only the budget's own figures are judged.
     """The verdict of a budget, its chain and the interferers checked through it.
 
     Parameters
@@ -269,10 +410,19 @@ def judge(
     """
     failures: list[Failure] = []
     checked: list[str] = []
+    req = budget.requirement
+    droop = timing = None
+    if chain is not None:
+        if budget.f_high_hz is not None:
+            droop = passband_droop(chain, budget.f_high_hz)
+        timing = digital_timing(chain)
     _noise(budget, failures, checked)
     _interferers(tuple(interferers), failures, checked)
     _input_window(budget, chain, failures, checked)
-    return Verdict(tuple(failures), tuple(checked), tuple(interferers))
+    _headroom(budget, failures, checked)
+    _flatness(req, droop, failures, checked)
+    _timing(req, timing, failures, checked)
+    return Verdict(tuple(failures), tuple(checked), tuple(interferers), droop, timing)
 
 
 def stated_interferers(design: Design) -> tuple:

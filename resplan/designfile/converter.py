@@ -209,7 +209,28 @@ def read_adc(r: TableReader, t: AdcTable, reference: Any, ref_table: ReferenceTa
     if t.data_rate is not None and data_rate is None:
         return None
     polarity = _polarity(r, t)
-    adc = r.build(p, ADC, name, t.architecture, t.bits, fsr, rate, noise, data_rate, gain, polarity)
+    jitter = r.q(t.aperture_jitter, "time", f"{p}.aperture_jitter", minimum="> 0", default=0.0)
+    channels = 1 if t.channels is None else t.channels
+    if not 1 <= channels <= 4096:
+        r.bad(f"{p}.channels", t.channels, "a whole number of channels from 1 to 4096")
+        return None
+    if jitter is None:
+        return None
+    adc = r.build(
+        p,
+        ADC,
+        name,
+        t.architecture,
+        t.bits,
+        fsr,
+        rate,
+        noise,
+        data_rate,
+        gain,
+        polarity,
+        aperture_jitter_s=jitter,
+        channels=channels,
+    )
     if adc is not None:
         _check_noise_conditions(r, adc, t)
     return adc
@@ -443,10 +464,17 @@ def read_digital(r: TableReader, t: DigitalTable | None, adc: Any) -> DigitalPat
         else:
             stages.append(SincFilter(1, t.average, here))
             here /= t.average
+    if t.band_limit_taps is not None and (t.band_limit is None or t.band_limit_taps < 1):
+        r.bad(
+            f"{p}.band_limit_taps",
+            t.band_limit_taps,
+            "a whole number of taps ≥ 1, with the band_limit it realises",
+        )
+        return None
     if t.band_limit is not None:
         cutoff = r.q(t.band_limit, "frequency", f"{p}.band_limit", minimum="> 0")
         if cutoff is not None:
-            limit = r.build("", IdealLowpass, cutoff, here)
+            limit = r.build("", IdealLowpass, cutoff, here, t.band_limit_taps)
             if limit is None:
                 r.errors[-1] = DesignError(
                     f"{p}.band_limit",

@@ -227,6 +227,26 @@ class RequirementTable(_Table):
         "interferers[0] when both are given).",
         {"frequency": "150 kHz", "amplitude": "10 mV"},
     )
+    passband_flatness: Quantity = _field(
+        "Largest gain error allowed at the band top (analog and digital together); the "
+        "droop is always reported.",
+        "0.1 dB",
+    )
+    headroom: Quantity = _field(
+        "Part of the ADC range kept free: the planner's gain keeps it, check fails a span "
+        "past it (default 0 %).",
+        "10 %",
+    )
+    settling_time: Quantity = _field(
+        "Longest settling allowed after a step or a multiplexer switch.", "50 ms"
+    )
+    channel_rate: Quantity = _field(
+        "Lowest rate of settled results each multiplexed channel must get.", "2 Hz"
+    )
+    signal_frequency: Quantity = _field(
+        "Highest signal frequency, for the ADC's aperture jitter (default: the band top).",
+        "20 kHz",
+    )
     interferers: list[InterferenceEntry] | None = _field(
         "Stated interferers at the sensor, as [[requirement.interferers]] tables: tones, "
         "mains pickup, out-of-band spectra. Each fails the verdict when its residue "
@@ -385,6 +405,14 @@ class AdcTable(_Table):
     full_scale_range: Quantity = _field(
         "Peak-to-peak input range at gain 1 (divided by gain). Or give input_range.", "5 V"
     )
+    aperture_jitter: Quantity = _field(
+        "RMS aperture (sampling clock) jitter; counted as the contributor adc.jitter.", "1 ps"
+    )
+    channels: int | None = _field(
+        "Inputs multiplexed into the converter (default 1); sets the per-channel rate.",
+        4,
+        strict=True,
+    )
     input_range: Literal["unipolar", "bipolar", "differential"] | None = _field(
         "Range from the reference: unipolar 0…V_ref (FSR = V_ref); bipolar or differential "
         "±V_ref (FSR = 2·V_ref); divided by gain.",
@@ -441,6 +469,11 @@ class DigitalTable(_Table):
     average: int | None = _field("Average N output samples (post-averaging).", 16, strict=True)
     band_limit: Quantity = _field(
         "An ideal digital band limit (such as an FIR or FFT bins).", "10 kHz"
+    )
+    band_limit_taps: int | None = _field(
+        "Length of the FIR that realises the band limit, taps; sets its settling.",
+        255,
+        strict=True,
     )
 
 

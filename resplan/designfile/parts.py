@@ -381,7 +381,8 @@ def read_requirement(
     coverage = DEFAULT_COVERAGE if read is None else read
     interference = r.q(t.interference, "voltage", f"{p}.interference", minimum="≥ 0", default=0.0)
 
-    if span is None or (counts is None and dr is None) or interference is None:
+    extra = _requirement_extras(r, t, p)
+    if span is None or (counts is None and dr is None) or interference is None or extra is None:
         return None, span
     engineering_per_volt = None
     if capacity is not None and unit_shown:
@@ -403,8 +404,40 @@ def read_requirement(
         description=description,
         engineering_unit=unit_shown if engineering_per_volt is not None else "",
         engineering_per_volt=engineering_per_volt,
+        **extra,
     )
     return req, span
+
+
+def _requirement_extras(r: TableReader, t: RequirementTable, p: str) -> dict[str, Any] | None:
+    """Flatness, headroom, settling, channel rate and signal frequency, when stated."""
+    out: dict[str, Any] = {}
+    ok = True
+    if t.passband_flatness is not None:
+        x = r.level_db(t.passband_flatness, f"{p}.passband_flatness")
+        if x is not None and not x > 0:
+            r.bad(f"{p}.passband_flatness", t.passband_flatness, "a flatness > 0 dB")
+            x = None
+        ok &= x is not None
+        out["passband_flatness_db"] = x
+    if t.headroom is not None:
+        x = r.parse(parse_percent, t.headroom, f"{p}.headroom")
+        if x is not None and x > 0.9:
+            r.bad(f"{p}.headroom", t.headroom, "a headroom from 0 to 90 %")
+            x = None
+        ok &= x is not None
+        out["headroom"] = x
+    for key, name, dimension in (
+        ("settling_time_s", "settling_time", "time"),
+        ("channel_rate_hz", "channel_rate", "frequency"),
+        ("signal_frequency_hz", "signal_frequency", "frequency"),
+    ):
+        value = getattr(t, name)
+        if value is not None:
+            x = r.q(value, dimension, f"{p}.{name}", minimum="> 0")
+            ok &= x is not None
+            out[key] = x
+    return out if ok else None
 
 
 def _describe(t: RequirementTable, counts: float | None, form: str, coverage: float) -> str:

@@ -308,10 +308,14 @@ class IdealLowpass:
 
     cutoff_hz: float
     input_rate_hz: float
+    #: Length of the FIR filter that realises it, taps (None: not stated); sets its settling.
+    taps: int | None = None
 
     def __post_init__(self) -> None:
         _positive("digital_filter.input_rate", self.input_rate_hz, "a sample rate > 0 Hz")
         _positive("band.f_high", self.cutoff_hz, "a band edge > 0 Hz")
+        if self.taps is not None and (_not_whole(self.taps) or self.taps < 1):
+            raise DesignError("digital.band_limit_taps", self.taps, "a whole number of taps ≥ 1")
         if self.cutoff_hz > self.input_rate_hz / 2:
             raise DesignError(
                 "band.f_high",

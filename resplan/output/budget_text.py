@@ -34,7 +34,7 @@ from ..units.formatting import (
     format_si,
     format_temperature,
 )
-from .interference_text import interference_lines
+from .interference_text import interference_lines, passband_timing_lines
 
 __all__ = [
     "format_budget",
@@ -301,6 +301,10 @@ def format_budget(
     if judged.interference:
         lines += interference_lines(judged.interference)
         lines.append("")
+    timing = passband_timing_lines(judged)
+    if timing:
+        lines += timing
+        lines.append("")
 
     dominant = ", ".join(f"{c.name} ({c.stage})" for c in budget.dominant)
     if dominant:
@@ -370,7 +374,9 @@ def check_data(
     (true only when ``failures`` is empty), ``engineering`` (or None), ``interferer``
     (the older single stated tone through the chain, or None), ``interferers`` (every
     stated interferer through the whole chain: residue, allowance, where it lands, each
-    tone), and ``design``
+    tone), ``passband`` (gain at the band top, dB: ``analog_db``, ``digital_db``,
+    ``total_db``), ``timing`` (``settling_s``, ``latency_s``, ``channels``,
+    ``channel_rate_hz`` and each stage), and ``design``
     (``source``, ``sha256``, ``meta``, ``notes``). Values are JSON-safe (see :func:`json_safe`).
     """
     if judged is None:
@@ -381,6 +387,8 @@ def check_data(
         data["meets_requirement"] = judged.meets
     data["failures"] = [f.to_dict() for f in judged.failures]
     data["interferers"] = [r.to_dict() for r in judged.interference]
+    data["passband"] = None if judged.droop is None else judged.droop.to_dict()
+    data["timing"] = None if judged.timing is None else judged.timing.to_dict()
     data["checked"] = list(judged.checked)
     data["engineering"] = engineering_figures(budget)
     alias = interferer_check(budget, design)

@@ -83,6 +83,7 @@ KIND_COLOURS: dict[str, str] = {
     "reference": OKABE_ITO["reddish purple"],
     "adc": OKABE_ITO["bluish green"],
     "quantisation": OKABE_ITO["vermillion"],
+    "jitter": "#000000",
 }
 
 #: Figures :func:`make_figures` can make, by name, with their titles.

@@ -22,7 +22,13 @@ import math
 from ..chain.interference import ATTENUATION_FLOOR_DB, RESIDUE_FLOOR_V, Residue
 from ..units.formatting import format_db, format_si
 
-__all__ = ["format_attenuation", "format_residue", "interference_lines", "residue_summary"]
+__all__ = [
+    "format_attenuation",
+    "format_residue",
+    "interference_lines",
+    "residue_summary",
+    "passband_timing_lines",
+]
 
 
 def format_attenuation(db: float) -> str:
@@ -69,4 +75,40 @@ def interference_lines(residues: tuple[Residue, ...]) -> list[str]:
                 f"analog + {format_attenuation(c.digital_db)} digital; left "
                 f"{format_residue(c.residue_v)}"
             )
+    return lines
+
+
+def _seconds(value: float | None) -> str:
+    return "not known (state digital.band_limit_taps)" if value is None else format_si(value, "s")
+
+
+def passband_timing_lines(judged) -> list[str]:
+    """Pass-band droop and the digital path's settling, latency and per-channel rate."""
+    lines: list[str] = []
+    req_flat = None
+    d, t = judged.droop, judged.timing
+    if d is None and t is None:
+        return lines
+    lines.append("Pass band and timing")
+    if d is not None:
+        req_flat = f"{d.total_db:+.3f} dB"
+        lines.append(
+            f"  gain at the band top {format_si(d.frequency_hz, 'Hz')}: {req_flat} "
+            f"({d.analog_db:+.3f} dB analog, {d.digital_db:+.3f} dB digital, relative to DC)"
+        )
+    else:
+        lines.append("  gain at the band top: no band top stated (requirement.f_high)")
+    if t is not None:
+        steps = (
+            "; ".join(f"{s.name}: {_seconds(s.settling_s)} ({s.rule})" for s in t.stages)
+            or "no digital filtering"
+        )
+        lines.append(f"  settling after a step or a channel switch: {_seconds(t.settling_s)}")
+        lines.append(f"      {steps}")
+        lines.append(f"  latency (conversion and group delay): {_seconds(t.latency_s)}")
+        per = "not known" if t.channel_rate_hz is None else format_si(t.channel_rate_hz, "Hz")
+        lines.append(
+            f"  output rate {format_si(t.output_rate_hz, 'Hz')}; {t.channels} channel"
+            f"{'s' if t.channels > 1 else ''}: {per} of settled results per channel"
+        )
     return lines

@@ -26,10 +26,11 @@ from typing import Any
 from ..chain.budget import Budget, Contribution, forward_budget
 from ..chain.design import Design
 from ..chain.signal_chain import Chain
+from ..chain.verdict import stated_interferers
 from ..errors import DesignError, DesignErrors
 from ..units.formatting import format_si
 from .levers import Lever, find_levers
-from .limits import PartRequirement, gain_limits, part_limits
+from .limits import UNSUPPRESSED, PartRequirement, gain_limits, part_limits
 from .provisional import DEFAULT_FILTER, Slot, provisional_chain
 
 
@@ -276,7 +277,16 @@ def plan_design(
         limits[slot.part.field_path] = limit
 
     requirements.extend(gain_limits(slots, chain, design, fixed, allowed, reasons))
-    if any(r.startswith("the ADC's noise needs") for r in reasons):
+    for row in requirements if stated_interferers(design) else ():
+        if row.condition.startswith(UNSUPPRESSED) and math.isinf(row.value):
+            reasons.append(
+                f"{row.part} ({row.field_path}): no filter order up to 8 suppresses the stated "
+                f"interferer ({row.quantity}; {row.condition})"
+            )
+    if any(
+        r.startswith("the ADC's noise needs") or "suppresses the stated interferer" in r
+        for r in reasons
+    ):
         feasible = False
     return Plan(
         design_title=design.meta.title,

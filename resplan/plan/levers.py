@@ -3,7 +3,8 @@
 Each is computed, not guessed: the span and resistance levers from the fixed
 contributions' scaling laws (thermal noise ∝ R and ∝ T), the averaging lever by
 recomputing the whole forward budget with longer averaging, so that 1/f noise,
-which does not average down, is counted.
+which does not average down, is counted. No lever leaves the signal band: the
+averaging lever never gives an output rate below twice the band top.
 """
 
 from __future__ import annotations
@@ -109,8 +110,19 @@ def find_levers(design, chain, budget, fixed, fixed_var, req, band, grid_points)
 def _averaging_lever(chain: Chain, band, req, grid_points: int) -> Lever:
     """Find the shortest extra averaging (a narrower band) that makes the fixed parts fit."""
     rate = chain.output_rate_hz
+    top = band.f_high_hz
     for k in range(1, _MAX_AVERAGING_DOUBLINGS + 1):
         n = 2**k
+        if top is not None and rate / n < 2 * top * (1 - 1e-12):
+            # Never an output rate below twice the band top: the band would alias.
+            return Lever(
+                "longer averaging / narrower band",
+                None,
+                "",
+                f"not possible within the band: averaging {n} results would give an output "
+                f"rate of {rate / n:.4g} Hz, below twice the band top ({2 * top:.4g} Hz); "
+                "a narrower band is a change of requirement",
+            )
         extra = SincFilter(1, n, rate)
         stages = (chain.digital.stages if chain.digital else ()) + (extra,)
         try:

@@ -21,7 +21,13 @@ from ..noise.responses import AnalogLowpass
 from ..units.formatting import format_si
 from .provisional import Slot, signal_band_top
 
-__all__ = ["PartRequirement", "part_limits", "gain_limits", "first_gain_index"]
+__all__ = [
+    "PartRequirement",
+    "part_limits",
+    "gain_limits",
+    "first_gain_index",
+    "UNSUPPRESSED",
+]
 
 
 def _v(value: float) -> str:
@@ -169,18 +175,35 @@ def _alias_rows(part: OpenPart, stage: ActiveFilter, chain: Chain, design: Desig
     req = design.requirement
     fs = chain.adc.sample_rate_hz
     top = signal_band_top(design)
-    if design.alias_interferer is not None:
-        f_i, amplitude = design.alias_interferer
-        source = f"stated interferer {_v(amplitude)} rms at {f_i:g} Hz (at the sensor)"
-    else:
-        f_i, amplitude = fs - top, sine_rms(req.span_v)
-        source = (
-            f"a full-scale sine at the first alias band, f_s − f_B = {f_i:g} Hz "
-            "(no interferer stated)"
-        )
-    residue, residue_text = allowed_residue(req)
-    needed_db = 20 * math.log10(amplitude / residue) if amplitude > residue else 0.0
-    helped_db = sum(path_attenuation_db(chain, f_i, skip=stage))
+    response = stage._lowpass.kind
+    known_cutoff = part.known.get("cutoff_hz")
+    cutoff = known_cutoff if known_cutoff is not None else top
+    candidates = _stated_tones(design, chain, stage)
+    if not candidates:
+        f_i = fs - top
+        candidates = [
+            (
+                f_i,
+                sine_rms(req.span_v),
+                None,
+                f"a full-scale sine at the first alias band, f_s − f_B = {f_i:g} Hz "
+                "(no interferer stated)",
+            )
+        ]
+    # Size the filter against the stated tone that needs the highest order.
+    best = None
+    for f_i, amplitude, own_allowance, source in candidates:
+        residue, residue_text = allowed_residue(req)
+        if own_allowance is not None:
+            residue, residue_text = own_allowance, "its own allowance"
+        needed_db = 20 * math.log10(amplitude / residue) if amplitude > residue else 0.0
+        helped_db = sum(path_attenuation_db(chain, f_i, skip=stage))
+        filter_db = max(0.0, needed_db - helped_db)
+        order = _min_order(response, cutoff, f_i, filter_db)
+        key = (math.inf if order is None else order, filter_db)
+        if best is None or key > best[0]:
+            best = (key, f_i, amplitude, source, residue, residue_text, needed_db, helped_db)
+    _, f_i, amplitude, source, residue, residue_text, needed_db, helped_db = best
     filter_db = max(0.0, needed_db - helped_db)
     rows = [
         PartRequirement(
@@ -197,17 +220,8 @@ def _alias_rows(part: OpenPart, stage: ActiveFilter, chain: Chain, design: Desig
     ]
     if f_i <= 0:
         return rows
-    response = stage._lowpass.kind
     known_order = part.known.get("order")
-    known_cutoff = part.known.get("cutoff_hz")
-    cutoff = known_cutoff if known_cutoff is not None else top
-    min_order = None
-    for n in range(1, 9):
-        if response == "rc" and n > 1:
-            break
-        if float(AnalogLowpass(response, n, cutoff).attenuation_db(f_i)) >= filter_db:
-            min_order = n
-            break
+    min_order = _min_order(response, cutoff, f_i, filter_db)
     rows.append(
         PartRequirement(
             part.name,
@@ -216,7 +230,8 @@ def _alias_rows(part: OpenPart, stage: ActiveFilter, chain: Chain, design: Desig
             float(min_order) if min_order is not None else math.inf,
             "",
             "min",
-            "no order up to 8 reaches it: raise the sample rate or lower the cut-off"
+            f"{UNSUPPRESSED}: raise the sample rate, lower the cut-off, or reduce the "
+            "interferer at its source"
             if min_order is None
             else ("cut-off as stated" if known_cutoff is not None else "cut-off at the band top"),
             "A(f) = 10·log10(1 + (f/f_c)^(2n)) for Butterworth; numerical otherwise",
@@ -234,13 +249,66 @@ def _alias_rows(part: OpenPart, stage: ActiveFilter, chain: Chain, design: Desig
             fc_max,
             "Hz",
             "max",
-            "inside the signal band: pass-band droop"
+            f"inside the signal band (top {top:g} Hz): not usable, the signal would droop; "
+            "raise the order or the sample rate"
             if fc_max < top
             else f"the signal band top is {top:g} Hz",
             "f_c = f / (10^(A/10) − 1)^(1/2n) for Butterworth",
         )
     )
     return rows
+
+
+#: Condition of the order row when no order suppresses the interferer (the plan is infeasible).
+UNSUPPRESSED = "no order up to 8 reaches it"
+
+
+def _min_order(response: str, cutoff: float, f_i: float, filter_db: float) -> int | None:
+    """Lowest order of ``response`` at ``cutoff`` that attenuates ``f_i`` by ``filter_db``."""
+    if f_i <= 0:
+        return None
+    for n in range(1, 9):
+        if response == "rc" and n > 1:
+            break
+        if float(AnalogLowpass(response, n, cutoff).attenuation_db(f_i)) >= filter_db:
+            return n
+    return None
+
+
+def _stated_tones(design: Design, chain: Chain, stage) -> list:
+    """(frequency, amplitude, own allowance, description) of each stated tone and mains
+    harmonic (at its worst frequency inside the tolerance); spectra are not sized here."""
+    from ..chain.interference import Mains, Tone, worst_in_window
+    from ..chain.verdict import stated_interferers
+
+    out = []
+    for x in stated_interferers(design):
+        if isinstance(x, Tone):
+            out.append(
+                (
+                    x.frequency_hz,
+                    x.amplitude_v,
+                    x.allowance_v,
+                    f"{x.name}: {_v(x.amplitude_v)} rms at "
+                    f"{x.frequency_hz:g} Hz (at the sensor)",
+                )
+            )
+        elif isinstance(x, Mains):
+            for f0 in x.frequencies_hz:
+                for h, a in enumerate(x.amplitudes_v, start=1):
+                    f = worst_in_window(
+                        chain, h * f0 * (1 - x.tolerance), h * f0 * (1 + x.tolerance)
+                    )
+                    out.append(
+                        (
+                            f,
+                            a,
+                            x.allowance_v,
+                            f"{x.name}: harmonic {h} of {f0:g} Hz, {_v(a)} rms, worst at "
+                            f"{f:.4g} Hz within ±{x.tolerance * 100:g} %",
+                        )
+                    )
+    return out
 
 
 def _max_cutoff(response: str, order: int, f_i: float, needed_db: float) -> float:
@@ -430,7 +498,9 @@ def gain_limits(slots, chain: Chain, design: Design, fixed, allowed: float, reas
     path = next((s.part.field_path for s in slots if s.index == i), f"stages[{i}]")
     g_in = chain.gain_before(i)
     others = chain.total_gain / stage.gain
-    g_max = chain.adc.full_scale_range_v / (design.sensor.span_v * others)
+    headroom = design.requirement.headroom
+    g_max = (1.0 - headroom) * chain.adc.full_scale_range_v / (design.sensor.span_v * others)
+    kept = f", keeping {headroom * 100:.3g} % headroom" if headroom > 0 else ""
     rows = [
         PartRequirement(
             name,
@@ -440,8 +510,8 @@ def gain_limits(slots, chain: Chain, design: Design, fixed, allowed: float, reas
             "V/V",
             "max",
             f"sensor span {_v(design.sensor.span_v)} into {chain.adc.full_scale_range_v:g} V "
-            "full-scale range",
-            "G_max = FSR / (span · other gains)",
+            f"full-scale range{kept}",
+            "G_max = (1 − headroom) · FSR / (span · other gains)",
         )
     ]
     later = {s.name for s in chain.stages[i + 1 :]} | {chain.adc.name}

@@ -149,11 +149,19 @@ def provisional_chain(design: Design) -> tuple[Chain, list[Slot], list[str]]:
             for j, s in enumerate(stages):
                 if j != slot.index:
                     others *= s.gain
-            gain = adc.full_scale_range_v / (design.sensor.span_v * others)
+            headroom = design.requirement.headroom
+            usable = 1.0 - headroom
+            gain = usable * adc.full_scale_range_v / (design.sensor.span_v * others)
+            kept = (
+                f"the sensor span fills {usable * 100:.3g} % of the range, keeping the stated "
+                f"{headroom * 100:.3g} % headroom"
+                if headroom > 0
+                else "the sensor span fills the whole range, no headroom stated "
+                "(requirement.headroom)"
+            )
             slot.assumptions.append(
                 f"{slot.part.name}: gain not stated; set to {gain:.4g} V/V, the largest the ADC "
-                "range allows (the sensor span fills the range: choose the next lower gain "
-                "you can build and plan again)"
+                f"range allows ({kept}: choose the next lower gain you can build and plan again)"
             )
         else:
             gain = 1.0

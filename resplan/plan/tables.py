@@ -70,7 +70,9 @@ def plan_verdict(plan: Plan) -> str:
             "FEASIBLE: a chain whose open parts meet these limits meets the requirement "
             "(with zero margin at the limits)"
         )
-    return "INFEASIBLE: the requirement cannot be met as the design stands (see the levers)"
+    if plan.levers:
+        return "INFEASIBLE: the requirement cannot be met as the design stands (see the levers)"
+    return "INFEASIBLE: the requirement cannot be met as the design stands (see why above)"
 
 
 def plan_records(plan: Plan, what: str = "requirements") -> list[dict[str, Any]]:
