@@ -168,3 +168,19 @@ def test_a_long_title_never_reaches_the_page_number(tmp_path, monkeypatch):
     for page in reader.pages:
         footer = [ln for ln in page.extract_text().splitlines() if ln.startswith("resplan ")]
         assert footer and "…" in footer[-1]
+
+
+def test_block_diagram_draws_every_part_of_the_chain(built):
+    # The diagram's labels are drawn as text: every place of the chain is on its page.
+    from resplan.output.report.diagram import chain_blocks
+
+    design, _, _, reader = built
+    page = next(p for p in reader.pages if "Block diagram of the chain" in p.extract_text())
+    text = page.extract_text()
+    for place, _, kind, lines, _ in chain_blocks(design):
+        assert place in text
+        assert kind[:12] in text
+        for line in lines:
+            assert line[:12] in text
+    if design.reference is not None:
+        assert "reference" in text

@@ -14,6 +14,7 @@ from ...units.formatting import (
     format_si,
     format_temperature,
 )
+from .diagram import block_diagram
 from .parts import describe_adc_noise, describe_digital, describe_part
 from .style import SECTION_TITLES
 from .writer import Writer, coverage_text, k_text, maybe_hz, rms
@@ -49,6 +50,15 @@ def requirement_section(w: Writer, design: Design, budget: Budget | None, plan: 
     out.append(w.table(rows, [55, 115], header=False, label_column=True))
 
     out.append(w.heading("The chain", 1))
+    out.append(block_diagram(design, w.width, w.f, w.plain))
+    out.append(
+        w.p(
+            "Block diagram of the chain, drawn from the design: signal left to right, each block "
+            "with its place in the design file, its kind and the figures that set its part in "
+            "the noise; open parts dashed.",
+            w.caption,
+        )
+    )
     parts: list[tuple[str, Any]] = [("sensor", design.sensor)]
     parts += [(f"stages[{i}]", s) for i, s in enumerate(design.stages)]
     if design.reference is not None:

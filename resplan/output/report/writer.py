@@ -64,6 +64,10 @@ class Writer:
         self.bullet = ParagraphStyle("bullet", base, leftIndent=10, bulletIndent=0, spaceAfter=2)
         self.mono = ParagraphStyle("mono", self.cell, fontName=f["mono"], fontSize=7)
 
+    def plain(self, value: str) -> str:
+        """Text for a drawing's strings: ASCII spellings when no Unicode font was found."""
+        return value if self.unicode else ascii_units(value)
+
     def text(self, value: str) -> str:
         """Escape for paragraph markup; ASCII spellings when no Unicode font was found."""
         value = value if self.unicode else ascii_units(value)
