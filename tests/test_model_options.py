@@ -66,3 +66,48 @@ def test_design_file_refuses_it_with_a_figure_that_holds_quantisation_by_definit
     with pytest.raises(DesignErrors) as info:
         loads_design(text, "h.toml")
     assert "adc.noise_includes_quantisation" in str(info.value)
+
+
+# --- a sensor and a requirement in engineering units ------------------------------------------
+
+
+def test_sensor_and_requirement_from_engineering_units_match_the_design_file():
+    # The embedded hive-scale example (invented): 2 mV/V × 5 V, 10 g out of 200 kg, 99.9 %,
+    # 20 nV interference. The API path must give the design file's numbers exactly.
+    from resplan import Requirement, Sensor
+
+    design = loads_design(example_text("hive-scale"), "h.toml")
+    sensor = Sensor.from_sensitivity("2 mV/V", "5 V", 350.0, capacity="200 kg")
+    assert sensor.span_v == design.chain().sensor.span_v
+    req = Requirement.from_resolution(sensor, "10 g", coverage=0.999, interference_rms_v=20e-9)
+    want = design.requirement
+    assert req.noise_free_counts == pytest.approx(want.noise_free_counts, rel=1e-15)
+    assert req.engineering_unit == want.engineering_unit == "g"
+    assert req.engineering_per_volt == pytest.approx(want.engineering_per_volt, rel=1e-15)
+    assert req.allowed_total_rms_v == pytest.approx(want.allowed_total_rms_v, rel=1e-15)
+
+
+def test_span_is_sensitivity_times_excitation():
+    # 2 mV/V at 5 V = 10 mV (definition of a ratiometric sensitivity).
+    from resplan import Sensor
+
+    s = Sensor.from_sensitivity(2e-3, 5.0, 350.0)
+    assert s.span_v == pytest.approx(10e-3, rel=1e-15)
+    assert s.capacity is None
+
+
+@pytest.mark.parametrize(
+    "capacity, resolution, field",
+    [
+        ("200 kg", "1 m", "resolution"),
+        ("200 kg", "300 kg", "resolution"),
+        ("-1 kg", "1 g", "capacity"),
+    ],
+)
+def test_engineering_units_refused_with_the_field(capacity, resolution, field):
+    from resplan import Requirement
+    from resplan.errors import DesignError
+
+    with pytest.raises(DesignError) as info:
+        Requirement.from_resolution(10e-3, resolution, capacity)
+    assert info.value.field == field

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass
+from typing import Any
 
 from ..errors import DesignError
 from ..noise.physics import peak_to_peak_factor
@@ -79,6 +80,64 @@ class Requirement:
     settling_time_s: float | None = None
     channel_rate_hz: float | None = None
     signal_frequency_hz: float | None = None
+
+    @classmethod
+    def from_resolution(
+        cls,
+        sensor_or_span: Any,
+        resolution: float | str,
+        capacity: float | str | None = None,
+        **kwargs,
+    ) -> Requirement:
+        """A noise-free requirement stated as a resolution out of a capacity ("10 g of 200 kg").
+
+        Parameters
+        ----------
+        sensor_or_span : Sensor or float
+            The sensor (its span and, unless ``capacity`` is given, its capacity)
+            or the span itself, V.
+        resolution : float or str
+            The step to resolve noise-free, such as ``"10 g"``.
+        capacity : float or str, optional
+            The full scale the span stands for, such as ``"200 kg"``.
+        **kwargs
+            ``coverage``, ``interference_rms_v``, ``description``.
+
+        Returns
+        -------
+        Requirement
+            With counts = capacity/resolution, and the engineering unit and scale
+            that noise figures are shown in (the resolution's unit as written).
+
+        Examples
+        --------
+        >>> r = Requirement.from_resolution(10e-3, "10 g", "200 kg")
+        >>> r.noise_free_counts, r.engineering_unit, round(r.engineering_per_volt)
+        (20000.0, 'g', 20000000)
+        """
+        from .engineering import counts_from_resolution, engineering_quantity, unit_as_written
+
+        span = getattr(sensor_or_span, "span_v", sensor_or_span)
+        if capacity is None:
+            cap = getattr(sensor_or_span, "capacity", None)
+            if cap is None:
+                raise DesignError(
+                    "capacity", "none", 'a capacity such as "200 kg" (or a Sensor that has one)'
+                )
+            unit = getattr(sensor_or_span, "capacity_unit", "")
+            capacity = f"{cap!r} {unit}" if unit else cap
+        counts, _ = counts_from_resolution(capacity, resolution)
+        cap_si, _ = engineering_quantity(capacity, "capacity")
+        shown = unit_as_written(resolution)
+        unit_si = engineering_quantity(f"1 {shown}", "resolution")[0] if shown else 1.0
+        kwargs.setdefault("description", f"{resolution} noise-free out of {capacity}")
+        return cls(
+            span_v=span,
+            noise_free_counts=counts,
+            engineering_unit=shown,
+            engineering_per_volt=cap_si / unit_si / span,
+            **kwargs,
+        )
 
     def __post_init__(self) -> None:
         check_positive("requirement.span", self.span_v, "a span > 0 V")

@@ -109,6 +109,11 @@ class Sensor:
         an RTD's voltage at the lowest temperature measured, a bridge's zero offset.
         It moves the input window the ADC must hold and the largest input the
         reference noise acts on.
+    capacity : float, optional
+        The full scale the span stands for, in SI units of ``capacity_unit``
+        (200 kg of a load cell: 200.0, ``"kg"``). See :meth:`from_sensitivity`.
+    capacity_unit : str
+        SI base unit of ``capacity`` (``"kg"``, ``"K"``, ``""`` for a number).
     """
 
     span_v: float
@@ -118,6 +123,45 @@ class Sensor:
     temperature_k: float | None = None
     name: str = "sensor"
     offset_v: float = 0.0
+    capacity: float | None = None
+    capacity_unit: str = ""
+
+    @classmethod
+    def from_sensitivity(
+        cls,
+        sensitivity: float | str,
+        excitation: float | str,
+        resistance_ohm: float,
+        *,
+        capacity: float | str | None = None,
+        **kwargs,
+    ) -> Sensor:
+        """A sensor whose span is sensitivity × excitation, as a design file states it.
+
+        Parameters
+        ----------
+        sensitivity : float or str
+            Full-scale output per volt of excitation: 2e-3 or ``"2 mV/V"``.
+        excitation : float or str
+            Excitation, V: 5.0 or ``"5 V"``.
+        resistance_ohm : float
+            Output resistance, Ω.
+        capacity : float or str, optional
+            The full scale in engineering units, such as ``"200 kg"``.
+        **kwargs
+            Any other field of :class:`Sensor`.
+
+        Examples
+        --------
+        >>> s = Sensor.from_sensitivity("2 mV/V", "5 V", 350.0, capacity="200 kg")
+        >>> s.span_v, s.capacity, s.capacity_unit
+        (0.01, 200.0, 'kg')
+        """
+        from .engineering import engineering_quantity, span_from_sensitivity
+
+        span = span_from_sensitivity(sensitivity, excitation)
+        cap, unit = (None, "") if capacity is None else engineering_quantity(capacity, "capacity")
+        return cls(span, resistance_ohm, capacity=cap, capacity_unit=unit, **kwargs)
 
     def __post_init__(self) -> None:
         check_positive("span", self.span_v, "a full-scale output span > 0 V")
@@ -126,6 +170,8 @@ class Sensor:
             raise DesignError("offset", self.offset_v, "a finite offset voltage, V")
         if self.temperature_k is not None:
             check_positive("temperature", self.temperature_k, "a temperature above 0 K")
+        if self.capacity is not None:
+            check_positive("capacity", self.capacity, "a full scale > 0 in its unit")
 
     @property
     def output_range_v(self) -> tuple[float, float]:

@@ -34,6 +34,7 @@ from typing import Any
 from pydantic import BaseModel
 
 from ..chain.design import OpenPart
+from ..chain.engineering import span_from_sensitivity
 from ..chain.requirement import DEFAULT_COVERAGE, Requirement
 from ..chain.stages import (
     ActiveFilter,
@@ -281,7 +282,7 @@ def read_requirement(
         s = r.q(t.sensitivity, "ratio_per_volt", f"{p}.sensitivity", required=True, minimum="> 0")
         e = r.q(t.excitation, "voltage", f"{p}.excitation", required=True, minimum="> 0")
         if s is not None and e is not None:
-            span = s * e
+            span = span_from_sensitivity(s, e)
             if span > 0:
                 r.notes.append(
                     f"span = sensitivity × excitation = {t.sensitivity} × {t.excitation} "
