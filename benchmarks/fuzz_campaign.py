@@ -207,9 +207,7 @@ def judge(command: str, result, folder: Path, seconds: float) -> list[str]:
             problems.append("a message line over 2000 characters")
     if command == "check --json" and result.exit_code in (0, 1):
         try:
-            json.loads(
-                result.stdout, parse_constant=lambda c: (_ for _ in ()).throw(ValueError(c))
-            )
+            json.loads(result.stdout, parse_constant=lambda c: (_ for _ in ()).throw(ValueError(c)))
         except ValueError as e:
             problems.append(f"bad JSON: {e!s:.200}")
     if command == "report":

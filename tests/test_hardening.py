@@ -489,3 +489,52 @@ def test_json_holds_only_finite_numbers_or_null(runner, tmp_path, name):
             yield node
 
     assert not {s for s in strings(data) if s.lower() in ("inf", "-inf", "nan", "infinity")}
+
+
+# --- 4. work linear in the chain's size -------------------------------------------------------
+
+_TINY_RC = '[[stages]]\ntype = "rc_filter"\nresistance = "10 ohm"\ncapacitance = "1 nF"\n\n'
+
+
+def _many_stages(count: int) -> str:
+    # INVENTED: ``count`` tiny RC stages ahead of the minimal example's own RC.
+    return MINIMAL.replace("[[stages]]", _TINY_RC * count + "[[stages]]", 1)
+
+
+def test_a_thousand_stages_load_and_give_their_figures_in_one_pass():
+    from resplan.designfile.load import loads_design
+
+    start = time.perf_counter()
+    chain = loads_design(_many_stages(MAX_STAGES - 1), "many.toml").chain()
+    n = len(chain.stages)
+    seen = [chain.resistance_seen_by(i) for i in range(n + 1)]
+    gains = [chain.gain_before(i) for i in range(n + 1)]
+    poles = [chain.stage_responses(i)[0].cutoff_hz for i in range(n)]
+    elapsed = time.perf_counter() - start
+    assert n == MAX_STAGES
+    # Series resistances add (Kirchhoff's voltage law): stage i sees 350 Ω + i · 10 Ω,
+    # and its pole is 1/(2π(R + R_source)C).
+    assert seen[:3] == pytest.approx([350.0, 360.0, 370.0])
+    assert seen[n - 1] == pytest.approx(350.0 + 10.0 * (n - 1))
+    assert poles[0] == pytest.approx(1 / (2 * np.pi * 360.0 * 1e-9))
+    assert gains == [1.0] * (n + 1)
+    assert elapsed < 2.0
+
+
+@pytest.mark.xfail(
+    strict=True,
+    reason="the noise-bandwidth integration of each stage's path still walks every later "
+    "stage (quadratic); the nodal solver is to replace it (benchmarks/bench_stages.py)",
+)
+def test_check_on_a_thousand_stages_in_under_a_second(tmp_path):
+    path = tmp_path / "many.toml"
+    path.write_text(_many_stages(MAX_STAGES - 1))
+    try:
+        done = subprocess.run(
+            [sys.executable, "-m", "resplan", "check", str(path)],
+            capture_output=True,
+            timeout=3.0,  # a second of work, and Python's start-up
+        )
+    except subprocess.TimeoutExpired:
+        raise AssertionError("check on 1,000 stages took over 3 s") from None
+    assert done.returncode in (0, 1)
