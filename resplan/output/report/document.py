@@ -9,7 +9,9 @@ traces the document to its design file (SHA-256) and resplan version, then
 2. the requirement, the chain and every assumption — :mod:`.requirement`
    (the chain table's wording of each part in :mod:`.parts`);
 3. the allocation and per-part requirements of the backward plan — :mod:`.allocation`;
-4. the forward budget of every contributor — :mod:`.budget`;
+4. the forward budget of every contributor — :mod:`.budget`; its spread across
+   boards and temperature (worst case, Monte Carlo yield) and what to improve
+   first — :mod:`.spread`;
 5. figures (:mod:`resplan.output.figures`) as vector drawings — :mod:`.figures`;
 6. the formulas used, each with its published source — :mod:`.formulas`;
 7. measurement-safety cautions — :mod:`.safety`.
@@ -49,6 +51,7 @@ from .formulas import formulas_section
 from .requirement import requirement_section
 from .safety import safety_section
 from .signoff import document_control_section
+from .spread import spread_section
 from .style import MARGIN, PAPER_SIZES, SECTION_TITLES
 from .summary import summary_section, title_block
 from .writer import Writer
@@ -163,6 +166,7 @@ def write_report(
     story += requirement_section(w, design, budget, plan)
     story += allocation_section(w, design, plan, plan_note)
     story += budget_section(w, design, budget)
+    story += spread_section(w, design, budget)
     story.append(PageBreak())
     story += figures_section(w, figs, svgs)
     story.append(PageBreak())
