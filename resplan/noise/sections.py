@@ -2,10 +2,12 @@ r"""Low-pass filter sections: Butterworth and Bessel tables, and component value
 
 A low-pass filter of order n is a cascade of second-order sections, each with a
 natural frequency f₀ and quality factor Q, plus one real pole when n is odd.
-:func:`filter_sections` reads them from the analog prototypes of
-:mod:`scipy.signal` (``buttap``; ``besselap`` with ``norm="mag"``, so that the
-whole filter is 3 dB down at its cutoff, like the Butterworth) once per
-(kind, order) and caches them. For a pole pair p, p̄ of the prototype,
+:func:`filter_sections` computes them from the closed-form prototype poles (the
+Butterworth poles on the unit circle; the Bessel poles as roots of the reverse
+Bessel polynomial, scaled so that the whole filter is 3 dB down at its cutoff, like
+the Butterworth and like ``scipy.signal.besselap(norm="mag")``) once per
+(kind, order) and caches them; the tests hold them to the scipy prototypes.
+For a pole pair p, p̄ of the prototype,
 f₀/f_c = |p| and Q = |p| / (−2 Re p).
 
 Component values come from the section transfer functions, derived here by nodal
@@ -95,12 +97,7 @@ def _check_kind_order(kind: str, order: int) -> None:
 
 @cache
 def _sections(kind: str, order: int) -> tuple[Section, ...]:
-    from scipy import signal  # heavy: loaded on first use only
-
-    if kind == "butterworth":
-        _, poles, _ = signal.buttap(order)
-    else:
-        _, poles, _ = signal.besselap(order, norm="mag")
+    poles = _prototype_poles(kind, order)
     real = [p for p in poles if abs(p.imag) <= 1e-12 * abs(p)]
     pairs = [p for p in poles if p.imag > 1e-12 * abs(p)]
     sections = [Section(float(abs(p)), None) for p in real]
@@ -108,6 +105,27 @@ def _sections(kind: str, order: int) -> tuple[Section, ...]:
         (Section(float(abs(p)), float(abs(p) / (-2.0 * p.real))) for p in pairs), key=lambda s: s.q
     )
     return tuple(sections)
+
+
+def _prototype_poles(kind: str, order: int) -> list[complex]:
+    """Poles of the low-pass prototype with its −3 dB point at 1 rad/s, from closed forms.
+
+    Butterworth: p_k = exp(jπ(2k + n − 1)/(2n)), k = 1…n (Butterworth 1930). Bessel: the
+    roots of the reverse Bessel polynomial θ_n(s) (Thomson 1949), divided by the
+    frequency where |θ_n(0)/θ_n(jω)|² = 1/2 so that the whole filter is 3 dB down at 1.
+    numpy only: the check path never loads scipy.signal; the tests hold both to
+    ``scipy.signal.buttap`` and ``besselap(norm="mag")``.
+    """
+    import numpy as np
+
+    if kind == "butterworth":
+        k = np.arange(1, order + 1)
+        return list(np.exp(1j * np.pi * (2 * k + order - 1) / (2 * order)))
+    from .responses import _bessel_magnitude_poly, bessel_polynomial
+
+    roots = np.roots(bessel_polynomial(order)[::-1])
+    _, w3 = _bessel_magnitude_poly(order)
+    return list(roots / w3)
 
 
 def filter_sections(kind: FilterKind, order: int) -> tuple[Section, ...]:
@@ -129,8 +147,10 @@ def filter_sections(kind: FilterKind, order: int) -> tuple[Section, ...]:
 
     Notes
     -----
-    Read once from :func:`scipy.signal.buttap` or :func:`scipy.signal.besselap`
-    and cached. For Butterworth, f₀/f_c = 1 and Q_k = 1 / (2 sin((2k − 1)π / 2n))
+    Computed once from the closed-form prototype poles (numpy only) and cached;
+    the tests check them against :func:`scipy.signal.buttap` and
+    :func:`scipy.signal.besselap`. For Butterworth, f₀/f_c = 1 and
+    Q_k = 1 / (2 sin((2k − 1)π / 2n))
     (Butterworth 1930), which the tests check.
 
     Examples
