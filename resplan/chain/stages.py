@@ -24,7 +24,11 @@ __all__ = [
     "IntegratedAmplifier",
     "RCFilter",
     "ActiveFilter",
+    "InvertingStage",
+    "TransimpedanceStage",
     "AnalogStage",
+    "ACTIVE_FILTER_TOPOLOGIES",
+    "MAX_SECTION_Q",
     "Reference",
 ]
 
@@ -114,6 +118,23 @@ class Sensor:
         (200 kg of a load cell: 200.0, ``"kg"``). See :meth:`from_sensitivity`.
     capacity_unit : str
         SI base unit of ``capacity`` (``"kg"``, ``"K"``, ``""`` for a number).
+    capacitance_f : float, optional
+        Capacitance across the output, F: a piezo element, a photodiode's junction,
+        a long cable. It shunts the current noise of the next stage above
+        1/(2πR_sC) and, at an op-amp's inverting input, raises its e_n noise gain.
+    dark_current_a : float
+        A DC current through the sensor, A (≥ 0), such as a photodiode's dark current:
+        its shot noise 2qI (Schottky 1918) is counted at the output.
+    differential : bool
+        A balanced source: the resistance is split into two halves, one in each
+        leg, so each input's current noise flows in its own half (i_n·R_s/√2 each).
+        The first stage must then take a differential input (an amplifier stage).
+    output : {"voltage", "current"}
+        ``"current"``: the sensor is a current source (a photodiode): ``span_v`` and
+        ``offset_v`` are then in A, ``resistance_ohm`` is its shunt resistance, and
+        everything referred to the sensor is in A. The shot noise of the signal
+        current at its largest value is counted with the dark current's. The first
+        stage must be a transimpedance stage.
     """
 
     span_v: float
@@ -125,6 +146,11 @@ class Sensor:
     offset_v: float = 0.0
     capacity: float | None = None
     capacity_unit: str = ""
+
+    capacitance_f: float | None = None
+    dark_current_a: float = 0.0
+    differential: bool = False
+    output: str = "voltage"
 
     @classmethod
     def from_sensitivity(
@@ -164,14 +190,28 @@ class Sensor:
         return cls(span, resistance_ohm, capacity=cap, capacity_unit=unit, **kwargs)
 
     def __post_init__(self) -> None:
-        check_positive("span", self.span_v, "a full-scale output span > 0 V")
+        unit = "A" if self.output == "current" else "V"
+        if self.output not in ("voltage", "current"):
+            raise DesignError("output", self.output, '"voltage" or "current"')
+        check_positive("span", self.span_v, f"a full-scale output span > 0 {unit}")
         check_positive("resistance", self.resistance_ohm, "a source resistance > 0 ohm")
+        check_optional_positive("capacitance", self.capacitance_f, "a capacitance > 0 F")
+        check_nonnegative("dark_current", self.dark_current_a, "a dark current ≥ 0 A")
+        if not isinstance(self.differential, bool):
+            raise DesignError("differential", self.differential, "true or false")
+        if self.differential and self.output == "current":
+            raise DesignError("differential", True, "false for a current-output sensor")
         if not (_is_number(self.offset_v) and math.isfinite(self.offset_v)):
             raise DesignError("offset", self.offset_v, "a finite offset voltage, V")
         if self.temperature_k is not None:
             check_positive("temperature", self.temperature_k, "a temperature above 0 K")
         if self.capacity is not None:
             check_positive("capacity", self.capacity, "a full scale > 0 in its unit")
+
+    @property
+    def unit(self) -> str:
+        """Unit of the span and of everything referred to the sensor: "V" or "A"."""
+        return "A" if self.output == "current" else "V"
 
     @property
     def output_range_v(self) -> tuple[float, float]:
@@ -348,7 +388,28 @@ class ActiveFilter:
         Equivalent input resistor whose thermal noise stands for the filter's
         resistors, Ω (≥ 0).
     en : NoiseDensity, optional
-        Op-amp voltage noise referred to the filter input, V/√Hz.
+        Without a topology: op-amp voltage noise referred to the filter input, V/√Hz.
+        With one: the e_n of each section's op amp.
+    topology : {"sallen-key", "multiple-feedback"}, optional
+        Build the filter as a circuit: a cascade of second-order sections of this
+        topology (plus a buffered RC real pole for an odd order), with section f₀ and Q
+        from the Butterworth or Bessel prototype and component values from
+        :mod:`resplan.noise.sections` (capacitors ``capacitor_f``). Every resistor and
+        op-amp source is then its own contribution, with its own transfer. Without a
+        topology the filter is a behavioural block: its response times its gain, with
+        ``noise_resistance`` and ``en`` entering at its input.
+    in_noise : NoiseDensity, optional
+        With a topology: each op amp's input current noise (both inputs), A/√Hz.
+    gbw_hz : float, optional
+        With a topology: each op amp's gain-bandwidth product, Hz; ideal when omitted.
+    capacitor_f : float
+        With a topology: the capacitor the synthesis starts from (C2 of each section and
+        the real pole's C), F; 10 nF by default (common practice, no source).
+
+    Notes
+    -----
+    With a topology the pass-band gain (≥ 1) is taken by the first second-order section;
+    a multiple-feedback section inverts, and ``gain`` is the magnitude.
     """
 
     name: str
@@ -358,11 +419,32 @@ class ActiveFilter:
     gain: float = 1.0
     noise_resistance_ohm: float = 0.0
     en: NoiseDensity | None = None
+    topology: str | None = None
+    in_noise: NoiseDensity | None = None
+    gbw_hz: float | None = None
+    capacitor_f: float = 10e-9
     _lowpass: AnalogLowpass = field(init=False, repr=False, compare=False)
 
     def __post_init__(self) -> None:
         check_positive("gain", self.gain, "a pass-band gain > 0 V/V")
         check_nonnegative("noise_resistance", self.noise_resistance_ohm, "a resistance ≥ 0 ohm")
+        if self.topology is not None:
+            if self.topology not in ACTIVE_FILTER_TOPOLOGIES:
+                raise DesignError("topology", self.topology, '"sallen-key" or "multiple-feedback"')
+            if self.response == "rc" or self.order < 2:
+                raise DesignError(
+                    "order", self.order, "an order of 2 to 8 (Butterworth or Bessel) for a topology"
+                )
+            if self.gain < 1.0:
+                raise DesignError("gain", self.gain, "a pass-band gain ≥ 1 V/V with a topology")
+            if self.noise_resistance_ohm:
+                raise DesignError(
+                    "noise_resistance",
+                    self.noise_resistance_ohm,
+                    "no equivalent resistor with a topology (each resistor is counted)",
+                )
+        check_optional_positive("gbw", self.gbw_hz, "a gain-bandwidth product > 0 Hz")
+        check_positive("capacitor", self.capacitor_f, "a capacitance > 0 F")
         try:
             lowpass = AnalogLowpass(self.response, self.order, self.cutoff_hz)
         except DesignError as err:
@@ -376,7 +458,143 @@ class ActiveFilter:
     output_resistance_ohm = 0.0
 
 
-AnalogStage = NonInvertingStage | IntegratedAmplifier | RCFilter | ActiveFilter
+#: Topologies of an active filter built as a circuit.
+ACTIVE_FILTER_TOPOLOGIES = ("sallen-key", "multiple-feedback")
+#: Sections with a higher Q are refused: a part tolerance of 1 % moves their peak by
+#: several dB and they sit close to oscillation (common practice, no source).
+MAX_SECTION_Q = 50.0
+
+
+@dataclass(frozen=True)
+class InvertingStage:
+    """An op-amp inverting gain stage, gain −RF/R_in.
+
+    Parameters
+    ----------
+    name : str
+        Label used in the budget.
+    rf_ohm : float
+        Feedback resistor, Ω (> 0).
+    rin_ohm : float
+        Input resistor from the stage input to the inverting input, Ω (> 0); it loads
+        whatever drives it (the virtual ground is at its far end).
+    en : NoiseDensity
+        Op-amp input voltage noise, V/√Hz.
+    in_minus : NoiseDensity
+        Current noise of the inverting input, A/√Hz (the + input is grounded, so its
+        current noise does not matter).
+    gbw_hz : float, optional
+        Gain-bandwidth product, Hz; ideal when omitted.
+
+    Notes
+    -----
+    ``gain`` is the magnitude RF/R_in: resplan judges noise and ranges in magnitude; the
+    inversion only swaps the ends of the ADC window, which a bipolar range does not mind.
+    Referred to its input, e_n appears with noise gain 1 + RF/R_in
+    (Motchenbacher & Connelly, ch. 2); the solver gives it exactly.
+    """
+
+    name: str
+    rf_ohm: float
+    rin_ohm: float
+    en: NoiseDensity
+    in_minus: NoiseDensity = NoiseDensity(0.0)
+    gbw_hz: float | None = None
+
+    def __post_init__(self) -> None:
+        check_positive("rf", self.rf_ohm, "a feedback resistance > 0 ohm")
+        check_positive("rin", self.rin_ohm, "an input resistance > 0 ohm")
+        check_optional_positive("gbw", self.gbw_hz, "a gain-bandwidth product > 0 Hz")
+
+    @property
+    def gain(self) -> float:
+        return self.rf_ohm / self.rin_ohm
+
+    @property
+    def noise_gain(self) -> float:
+        """1 + RF/R_in: the gain e_n sees, V/V."""
+        return 1.0 + self.rf_ohm / self.rin_ohm
+
+    @property
+    def responses(self) -> tuple[AnalogLowpass, ...]:
+        if self.gbw_hz is None:
+            return ()
+        return (AnalogLowpass("rc", 1, self.gbw_hz / self.noise_gain),)
+
+    output_resistance_ohm = 0.0
+
+
+@dataclass(frozen=True)
+class TransimpedanceStage:
+    """A transimpedance amplifier: current in, RF·I out, RF ∥ CF in the feedback.
+
+    Parameters
+    ----------
+    name : str
+        Label used in the budget.
+    rf_ohm : float
+        Feedback resistor, Ω (> 0): the gain, V/A.
+    cf_f : float, optional
+        Feedback capacitor across RF, F; it sets the signal bandwidth 1/(2πRF·CF)
+        and keeps the loop stable against the sensor's capacitance.
+    en : NoiseDensity
+        Op-amp input voltage noise, V/√Hz. Its noise gain 1 + Z_F/Z_in rises above the
+        zero set by RF and the input capacitance to 1 + C_in/CF (the e_n·C_in peaking),
+        then falls with the loop gain; the solver gives that shape exactly.
+    in_minus : NoiseDensity
+        Current noise of the inverting input, A/√Hz.
+    gbw_hz : float, optional
+        Gain-bandwidth product, Hz; ideal when omitted.
+    input_capacitance_f : float
+        The op amp's own input capacitance (common-mode plus differential), F (≥ 0).
+
+    Notes
+    -----
+    Its input must be the chain's sensor, a current source (``Sensor.output = "current"``).
+    Sources: Graeme, *Photodiode Amplifiers: Op Amp Solutions*, McGraw-Hill 1996
+    (from memory), and Motchenbacher & Connelly ch. 2 for the noise model.
+    """
+
+    name: str
+    rf_ohm: float
+    en: NoiseDensity
+    in_minus: NoiseDensity = NoiseDensity(0.0)
+    cf_f: float | None = None
+    gbw_hz: float | None = None
+    input_capacitance_f: float = 0.0
+
+    def __post_init__(self) -> None:
+        check_positive("rf", self.rf_ohm, "a feedback resistance > 0 ohm")
+        check_optional_positive("cf", self.cf_f, "a feedback capacitance > 0 F")
+        check_optional_positive("gbw", self.gbw_hz, "a gain-bandwidth product > 0 Hz")
+        check_nonnegative("input_capacitance", self.input_capacitance_f, "a capacitance ≥ 0 F")
+
+    @property
+    def gain(self) -> float:
+        """RF, V/A (transimpedance)."""
+        return self.rf_ohm
+
+    @property
+    def noise_gain(self) -> float:
+        return 1.0
+
+    @property
+    def responses(self) -> tuple[AnalogLowpass, ...]:
+        if self.cf_f is None:
+            return ()
+        return (AnalogLowpass("rc", 1, 1.0 / (2.0 * math.pi * self.rf_ohm * self.cf_f)),)
+
+    output_resistance_ohm = 0.0
+
+
+AnalogStage = (
+    NonInvertingStage
+    | IntegratedAmplifier
+    | RCFilter
+    | ActiveFilter
+    | InvertingStage
+    | TransimpedanceStage
+)
 
 
 @dataclass(frozen=True)
