@@ -77,7 +77,8 @@ def _sar(noise=None, bits=16, fsr=10.0, rate=1e6):
 def test_non_inverting_stage_matches_the_hand_formula():
     # Motchenbacher & Connelly, Low-Noise Electronic System Design, ch. 2 (DOMAIN.md §2):
     # e_RTI² = 4kTR_s + e_n² + (i_n+·R_s)² + (i_n−·RF‖RG)² + 4kT·(RF‖RG), each term with its
-    # own 1/f corner, integrated over the closed-loop pole GBW/(1 + RF/RG).
+    # own 1/f corner, integrated over the closed-loop pole GBW/(1 + RF/RG). The solver keeps
+    # RF and RG as two sources, 4kT/RF and 4kT/RG into RF‖RG: together 4kT·(RF‖RG).
     rs, rf, rg = 2e3, 99e3, 1e3
     en, in_p, in_m = NoiseDensity(3e-9, 2.0), NoiseDensity(1e-12, 30.0), NoiseDensity(2e-12, 50.0)
     stage = NonInvertingStage("invented op-amp", rf, rg, en, in_p, in_m, gbw_hz=10e6)
@@ -91,14 +92,15 @@ def test_non_inverting_stage_matches_the_hand_formula():
             0.0,
         ),
         ("invented op-amp", "e_n"): (3e-9, 2.0),
-        ("invented op-amp", "i_n+ · R_source"): (1e-12 * rs, 30.0),
-        ("invented op-amp", "i_n− · RF‖RG"): (2e-12 * rp, 50.0),
-        ("invented op-amp", "thermal noise of RF‖RG"): (math.sqrt(4 * K_B * T * rp), 0.0),
+        ("invented op-amp", "i_n+"): (1e-12 * rs, 30.0),
+        ("invented op-amp", "i_n−"): (2e-12 * rp, 50.0),
+        ("invented op-amp", "thermal noise of RF"): (math.sqrt(4 * K_B * T / rf) * rp, 0.0),
+        ("invented op-amp", "thermal noise of RG"): (math.sqrt(4 * K_B * T / rg) * rp, 0.0),
     }
     got = _by_name(budget)
     for key, (white, corner) in expected.items():
         assert got[key].rms_v ** 2 == pytest.approx(_variance(white, corner, fp), rel=RTOL), key
-        assert got[key].density_v_per_rthz == pytest.approx(white, rel=1e-12)
+        assert got[key].density_v_per_rthz == pytest.approx(white, rel=1e-9)
         assert got[key].adc_rms_v == pytest.approx(got[key].rms_v * 100.0, rel=1e-12)
     rti_sq = sum(_variance(w, c, fp) for w, c in expected.values())
     analog_sq = sum(c.rms_v**2 for c in budget.contributions if c.stage != "invented SAR")
@@ -114,7 +116,7 @@ def test_follower_has_no_feedback_terms():
         Chain(Sensor(1.0, 1e3), (stage, RCFilter("rc", 100.0, 1e-9)), _sar()), Band(F_LOW)
     )
     names = {c.name for c in budget.contributions if c.stage == "invented follower"}
-    assert names == {"e_n", "i_n+ · R_source"}
+    assert names == {"e_n", "i_n+"}
 
 
 def test_integrated_amplifier_matches_input_plus_output_over_gain():
@@ -139,7 +141,7 @@ def test_integrated_amplifier_matches_input_plus_output_over_gain():
     assert got[("invented in-amp", "output noise / G")].rms_v ** 2 == pytest.approx(
         _variance(100e-9 / g, 5.0, fp), rel=RTOL
     )
-    assert got[("invented in-amp", "i_n · R_source")].rms_v ** 2 == pytest.approx(
+    assert got[("invented in-amp", "i_n")].rms_v ** 2 == pytest.approx(
         _variance(0.5e-12 * rs, 0.0, fp), rel=RTOL
     )
 
@@ -173,8 +175,8 @@ def test_current_noise_sees_passive_filter_resistance_and_not_through_an_active_
         _sar(),
     )
     got = _by_name(forward_budget(chain))
-    assert got[("amp", "i_n · R_source")].density_v_per_rthz == pytest.approx(5e3 * 1e-12)
-    assert ("after", "i_n · R_source") not in got
+    assert got[("amp", "i_n")].density_v_per_rthz == pytest.approx(5e3 * 1e-12)
+    assert ("after", "i_n") not in got
 
 
 @pytest.mark.parametrize("resistance_ohm", [1e3, 100e3])

@@ -203,9 +203,11 @@ def test_round_trip_zero_margin(kwargs):
     assert plan.feasible
     chain = realise(plan, d)
     b = forward_budget(chain, d.band, requirement=d.requirement)
-    # Every open part at its limit: the forward check equals the target (1e-9 relative).
-    assert b.total_rms_v == pytest.approx(plan.allowed_noise_rms_v, rel=1e-9)
-    assert b.margin_bits == pytest.approx(0.0, abs=1e-8)
+    # Every open part at its limit: the forward check equals the target. The planner
+    # integrates closed-form responses, the forward check the solved circuit's transfer
+    # table (interpolated between 40 points a decade): they agree to 1e-6 relative.
+    assert b.total_rms_v == pytest.approx(plan.allowed_noise_rms_v, rel=1e-6)
+    assert b.margin_bits == pytest.approx(0.0, abs=2e-6)
 
 
 @settings(max_examples=25, deadline=None, suppress_health_check=[HealthCheck.too_slow])
@@ -240,7 +242,7 @@ def test_round_trip_property(
     plan = plan_design(d, weights={names[0]: weight})
     assume(plan.feasible)
     b = forward_budget(realise(plan, d), d.band, requirement=d.requirement)
-    assert b.total_rms_v == pytest.approx(plan.allowed_noise_rms_v, rel=1e-9)
+    assert b.total_rms_v == pytest.approx(plan.allowed_noise_rms_v, rel=1e-6)
 
 
 def test_limits_are_datasheet_figures():

@@ -24,16 +24,20 @@ place                  source                      contribution
 =====================  ==========================  ====================================
 ``sensor``             ``thermal``                 √(4kTR) of the source resistance
 ``sensor``             ``noise``                   the sensor's own stated noise
-``stages[i]``          ``en``                      op amp / amplifier input voltage noise
-``stages[i]``          ``in_plus``                 i_n+ into the source resistance
-``stages[i]``          ``in_minus``                i_n− into RF‖RG
-``stages[i]``          ``RF_RG.thermal``           thermal noise of RF‖RG
+``sensor``             ``thermal+``, ``thermal-``  each half of a balanced source
+``sensor``             ``dark_current``            shot noise of the dark current
+``sensor``             ``signal_shot``             shot noise of the full-scale current
+``stages[i]``          ``en``                      gain-stage or amplifier input voltage
+                                                   noise (an in-amp's input stage)
+``stages[i]``          ``in_plus``, ``in_minus``   a gain stage's i_n+ and i_n−
+``stages[i]``          ``RF.thermal``              a gain stage's RF (and ``RG.thermal``)
 ``stages[i]``          ``eno``                     output voltage noise, referred by 1/G
-``stages[i]``          ``in``                      amplifier current noise into R_source
+``stages[i]``          ``in``                      amplifier current noise (single-ended)
 ``stages[i]``          ``R.thermal``               thermal noise of an RC filter's R
 ``stages[i]``          ``R_eq.thermal``            an active filter's equivalent R
-``stages[i]``          ``<solver source id>``      a netlist-solved stage: the solver's
-                                                   own ids (``R3.thermal``, ``opamp.en``)
+``stages[i]``          ``<solver source id>``      every other part of a solved stage:
+                                                   the solver's own ids (``Rin.thermal``,
+                                                   ``opamp.en``, ``sections[0].R1.thermal``)
 ``reference``          ``noise``                   reference noise at the largest input
 ``adc``                ``noise``                   converter noise (any way it is quoted)
 ``adc``                ``quantisation``            q/√12 when the figure excludes it
@@ -50,15 +54,17 @@ from __future__ import annotations
 import difflib
 import math
 from dataclasses import dataclass, field
+from functools import lru_cache
 from typing import Any
 
+import numpy as np
+
 from ..errors import ChainError
-from ..noise.bandwidth import NoiseBandwidth, noise_bandwidth
+from ..noise.bandwidth import NoiseBandwidth, integrate_psd, noise_bandwidth
 from ..noise.physics import (
     enob_from_sinad,
     noise_rms_to_snr,
     peak_to_peak_factor,
-    thermal_noise_density,
 )
 from .converter import (
     InputNoiseDensity,
@@ -68,16 +74,18 @@ from .converter import (
     TransitionNoise,
     jitter_noise_rms,
 )
+from .netlists import (
+    UNBOUNDED_SLOPE,
+    ChainCircuit,
+    SourcePath,
+    check_circuit,
+    circuit_of,
+    transfer_table,
+)
 from .requirement import DEFAULT_COVERAGE, Requirement
 from .resolution import dynamic_range_db, effective_bits, noise_free_bits, noise_free_counts
 from .signal_chain import Band, Chain, describe_reference
-from .stages import (
-    ActiveFilter,
-    IntegratedAmplifier,
-    NoiseDensity,
-    NonInvertingStage,
-    RCFilter,
-)
+from .stages import NoiseDensity
 
 __all__ = [
     "Contribution",
@@ -527,30 +535,7 @@ def forward_budget(
     t_sensor = chain.sensor_temperature_k
     warnings: list[str] = []
 
-    path = chain.responses_from(0)
-    c.density(
-        "thermal noise of source resistance",
-        sensor.name,
-        "thermal",
-        NoiseDensity(float(thermal_noise_density(sensor.resistance_ohm, t_sensor))),
-        1.0,
-        path,
-        f"√(4kTR) at {t_sensor:.2f} K",
-        id=contribution_id("sensor", "thermal"),
-    )
-    if sensor.noise is not None:
-        c.density(
-            "sensor's own noise",
-            sensor.name,
-            "sensor",
-            sensor.noise,
-            1.0,
-            path,
-            id=contribution_id("sensor", "noise"),
-        )
-
-    for i, stage in enumerate(chain.stages):
-        _stage_contributions(c, i, stage, t)
+    _circuit_contributions(c, chain, band)
 
     _reference_contribution(c, chain, band)
     adc_alone_rms = _adc_contributions(c, chain, band, warnings)
@@ -600,100 +585,80 @@ def forward_budget(
     return Budget(**{**budget.__dict__, "warnings": tuple(warnings), "outside_window": outside})
 
 
-def _stage_contributions(c: _Collector, i: int, stage, temperature_k: float) -> None:
-    chain = c.chain
-    g_in = chain.gain_before(i)
-    path = chain.responses_from(i)
-    r_seen = chain.resistance_seen_by(i)
-    place = stage_place(i)
+@lru_cache(maxsize=256)
+def _path_bandwidths(
+    circuit: ChainCircuit, f_low_hz: float, digital, grid_points: int
+) -> tuple[np.ndarray, np.ndarray]:
+    """White (Hz·|H|²) and 1/f (|H|²) noise bandwidths of every source's path to the output.
 
-    def cid(source: str) -> str:
-        return contribution_id(place, source)
+    One pass of :func:`resplan.noise.bandwidth.integrate_psd` over the stacked table of
+    power transfers, aliases included: column j gives ∫|H_j|²|H_d|² df and
+    ∫|H_j|²|H_d|²/f df, so a source of density e_w²(1 + f_c/f) has variance
+    e_w²(W_j + f_c·F_j) at the ADC input, its path kept apart from its density.
+    """
+    table = transfer_table(circuit, f_low_hz)
 
-    def thermal(resistance: float) -> NoiseDensity:
-        return NoiseDensity(float(thermal_noise_density(resistance, temperature_k)))
+    def kernels(f: np.ndarray) -> np.ndarray:
+        return np.stack([np.ones_like(f), 1.0 / f])[:, None, :]
 
-    if isinstance(stage, NonInvertingStage):
-        c.density("e_n", stage.name, "voltage", stage.en, g_in, path, id=cid("en"))
-        c.density(
-            "i_n+ · R_source",
-            stage.name,
-            "current",
-            stage.in_plus.scaled(r_seen),
-            g_in,
-            path,
-            f"into {r_seen:.4g} Ω",
-            id=cid("in_plus"),
+    white, flicker = integrate_psd(kernels, (table,), digital, f_low_hz, grid_points=grid_points)
+    return np.asarray(white, dtype=float), np.asarray(flicker, dtype=float)
+
+
+def _stage_index(where: str) -> int | None:
+    if where.startswith("stages[") and where.endswith("]"):
+        return int(where[7:-1])
+    return None
+
+
+def _circuit_contributions(c: _Collector, chain: Chain, band: Band) -> None:
+    """Every source of the analog front end, from the solved circuit (one contribution each)."""
+    circuit = circuit_of(chain)
+    check_circuit(circuit, band.f_high_hz)
+    sources = circuit.sources
+    if not sources:
+        return
+    table = transfer_table(circuit, band.f_low_hz)
+    white_sq = circuit.white_sq
+    corner = circuit.corner_hz
+    white_bw, flicker = _path_bandwidths(circuit, band.f_low_hz, chain.digital, c.grid_points)
+    at_low = table.power_gain(np.array([band.f_low_hz]))[:, 0]
+    peak = np.exp(table.log_power.max(axis=1))
+    t_sensor = chain.sensor_temperature_k
+    for j, info in enumerate(sources):
+        if white_sq[j] == 0 or not table.live[j]:
+            continue
+        if table.final_slope[j] > UNBOUNDED_SLOPE:
+            raise ChainError(
+                info.stage,
+                "no band limit",
+                "an analog bandwidth (gbw, bandwidth or a filter stage) that bounds the noise "
+                f"of {info.stage} ({info.name}) before the ADC samples it (a digital filter "
+                "cannot: white noise aliases without end)",
+            )
+        variance = white_sq[j] * (white_bw[j] + corner[j] * flicker[j])
+        adc_rms = math.sqrt(max(float(variance), 0.0))
+        scale = float(at_low[j]) if at_low[j] > 1e-30 * peak[j] else float(peak[j])
+        index = _stage_index(info.where)
+        note = "solved with the whole front end (nodal analysis)"
+        if info.source_id.startswith("sensor.thermal"):
+            note = f"√(4kTR) at {t_sensor:.2f} K, " + note
+        c.items.append(
+            Contribution(
+                name=info.name,
+                stage=info.stage,
+                kind=info.kind,
+                rms_v=adc_rms / c.gain,
+                adc_rms_v=adc_rms,
+                density_v_per_rthz=math.sqrt(white_sq[j] * scale) / c.gain,
+                corner_hz=float(corner[j]),
+                noise_bandwidth_hz=float(white_bw[j]) / scale,
+                note=note,
+                responses=(SourcePath(table, j, scale),),
+                gain_in_front=1.0 if index is None else chain.gain_before(index),
+                id=info.contribution_id,
+            )
         )
-        rp = stage.feedback_parallel_ohm
-        if rp > 0:
-            i_minus = stage.in_minus or stage.in_plus
-            c.density(
-                "i_n− · RF‖RG",
-                stage.name,
-                "current",
-                i_minus.scaled(rp),
-                g_in,
-                path,
-                f"into {rp:.4g} Ω",
-                id=cid("in_minus"),
-            )
-            c.density(
-                "thermal noise of RF‖RG",
-                stage.name,
-                "thermal",
-                thermal(rp),
-                g_in,
-                path,
-                id=cid("RF_RG.thermal"),
-            )
-    elif isinstance(stage, IntegratedAmplifier):
-        c.density("input noise", stage.name, "voltage", stage.input_noise, g_in, path, id=cid("en"))
-        if stage.output_noise is not None:
-            c.density(
-                "output noise / G",
-                stage.name,
-                "voltage",
-                stage.output_noise.scaled(1.0 / stage.gain),
-                g_in,
-                path,
-                id=cid("eno"),
-            )
-        if stage.current_noise is not None:
-            c.density(
-                "i_n · R_source",
-                stage.name,
-                "current",
-                stage.current_noise.scaled(r_seen),
-                g_in,
-                path,
-                f"into {r_seen:.4g} Ω",
-                id=cid("in"),
-            )
-    elif isinstance(stage, RCFilter):
-        c.density(
-            "thermal noise of R",
-            stage.name,
-            "thermal",
-            thermal(stage.resistance_ohm),
-            g_in,
-            path,
-            "filtered by its own pole (kT/C)",
-            id=cid("R.thermal"),
-        )
-    elif isinstance(stage, ActiveFilter):
-        if stage.noise_resistance_ohm > 0:
-            c.density(
-                "thermal noise of equivalent R",
-                stage.name,
-                "thermal",
-                thermal(stage.noise_resistance_ohm),
-                g_in,
-                path,
-                id=cid("R_eq.thermal"),
-            )
-        if stage.en is not None:
-            c.density("e_n", stage.name, "voltage", stage.en, g_in, path, id=cid("en"))
 
 
 def _reference_contribution(c: _Collector, chain: Chain, band: Band) -> None:

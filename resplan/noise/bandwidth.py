@@ -271,7 +271,7 @@ def _integrate_analog(psd, analog, f_low, f_high, grid_points):
     values = psd(mid) * _analog_power_gain(analog, mid)
     total = np.sum(values * width, axis=-1)
     if f_high is None:
-        at_top = psd(np.array([top]))[..., 0] * _analog_power_gain(analog, np.array([top]))[0]
+        at_top = psd(np.array([top]))[..., 0] * _analog_power_gain(analog, np.array([top]))[..., 0]
         total = total + _power_law_tail(top, at_top, order)
     return total
 
@@ -345,7 +345,9 @@ def _integrate_folded(psd, analog, digital, f_low, grid_points, folded_source):
         far = _integrate_analog(psd, analog, start, None, max(200, grid_points // 4))
     else:
         # The exact images already reach past the analog top: only the power-law tail is left.
-        at_start = psd(np.array([start]))[..., 0] * _analog_power_gain(analog, np.array([start]))[0]
+        at_start = (
+            psd(np.array([start]))[..., 0] * _analog_power_gain(analog, np.array([start]))[..., 0]
+        )
         far = _power_law_tail(start, at_start, order)
     return total + mean_gain * far
 
