@@ -146,7 +146,6 @@ class Sensor:
     offset_v: float = 0.0
     capacity: float | None = None
     capacity_unit: str = ""
-
     capacitance_f: float | None = None
     dark_current_a: float = 0.0
     differential: bool = False
