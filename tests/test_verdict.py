@@ -190,3 +190,51 @@ def test_plan_is_infeasible_when_no_filter_order_suppresses_the_interferer(runne
     data = json.loads(runner.invoke(main, ["plan", "--json", str(path)]).stdout)
     assert data["feasible"] is False
     assert any("suppresses the stated interferer" in r for r in data["reasons"])
+
+
+def test_tank_example_every_item_in_text_json_and_pdf(runner, tmp_path):
+    # The embedded (invented) example: mains 50/60 Hz with ±1 % and five harmonics
+    # passes at its worst frequencies, the 24.5 Hz pump pulsation fails.
+    path = tmp_path / "tank.toml"
+    path.write_text(example_text("tank-pressure"), encoding="utf-8")
+    text = runner.invoke(main, ["check", str(path)])
+    assert text.exit_code == 1
+    out = text.stdout
+    for fragment in (
+        "interferer[0]",
+        "mains pickup (invented)",
+        "worst at 49.5 Hz",
+        "interferer[1]",
+        "pump pulsation (invented)",
+        "EXCEEDS it",
+        "gain at the band top",
+        "settling after a step",
+        "per channel",
+    ):
+        assert fragment in out, fragment
+    assert out.strip().splitlines()[-1] == (
+        "DOES NOT MEET the requirement: 1 item fails (interferer[1])"
+    )
+    data = json.loads(runner.invoke(main, ["check", "--json", str(path)]).stdout)
+    assert data["meets_requirement"] is False
+    assert [f["item"] for f in data["failures"]] == ["interferer[1]"]
+    assert {
+        "noise",
+        "interferer[0]",
+        "interferer[1]",
+        "input_window",
+        "headroom",
+        "passband_flatness",
+        "settling",
+        "channel_rate",
+    } <= set(data["checked"])
+    assert data["interferers"][0]["within_allowance"] is True
+    assert len(data["interferers"][0]["components"]) == 10
+    assert data["passband"]["total_db"] < 0 and data["timing"]["channels"] == 2
+    pdf = tmp_path / "tank.pdf"
+    assert runner.invoke(main, ["report", str(path), "-o", str(pdf)]).exit_code == 0
+    from pypdf import PdfReader
+
+    page = PdfReader(str(pdf)).pages[0].extract_text()
+    assert "Does not meet the requirement" in page
+    assert "What fails" in page and "interferer[1]" in page

@@ -318,9 +318,9 @@ def _flatness(
                 error,
                 limit,
                 "dB",
-                f"the signal is {droop.total_db:.3g} dB at the band top "
-                f"{_si(droop.frequency_hz, 'Hz')} ({droop.analog_db:.3g} dB analog, "
-                f"{droop.digital_db:.3g} dB digital), past the ±{limit:.3g} dB allowed",
+                f"the signal is {droop.total_db:+.3f} dB at the band top "
+                f"{_si(droop.frequency_hz, 'Hz')} ({droop.analog_db:+.3f} dB analog, "
+                f"{droop.digital_db:+.3f} dB digital), past the ±{limit:.3g} dB allowed",
             )
         )
 

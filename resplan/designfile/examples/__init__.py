@@ -29,6 +29,7 @@ EXAMPLE_NAMES: tuple[str, ...] = (
     "pipeline-vibration",
     "kickoff-bridge",
     "hive-spread",
+    "tank-pressure",
 )
 #: What ``resplan init`` writes without ``--example``.
 DEFAULT_EXAMPLE = "hive-scale"

@@ -1,4 +1,4 @@
-"""Section 4: the forward noise budget, every contributor, and the stated interferer."""
+"""Section 4: the forward noise budget, every contributor, and the stated interferers."""
 
 from __future__ import annotations
 
@@ -6,8 +6,8 @@ from typing import Any
 
 from ...chain.budget import Budget
 from ...chain.design import Design
-from ...units.formatting import format_db, format_percent, format_si
-from ..budget_text import interferer_check
+from ...units.formatting import format_percent, format_si
+from ..interference_text import interference_lines
 from .style import GREY, SECTION_TITLES
 from .writer import Writer
 
@@ -96,19 +96,11 @@ def budget_section(w: Writer, design: Design, budget: Budget | None) -> list:
             w.small,
         )
     )
-    alias = interferer_check(budget, design)
-    if alias is not None:
-        verdict_text = "within it" if alias.within_allowance else "it EXCEEDS the allowance"
-        out.append(
-            w.p(
-                f"Stated interferer (interference, not noise): {format_si(alias.amplitude_v, 'V')} "
-                f"rms at {format_si(alias.frequency_hz, 'Hz')} at the sensor lands at "
-                f"{format_si(alias.alias_hz, 'Hz')} after sampling; the analog path attenuates "
-                f"it by {format_db(alias.analog_db)} and the digital filter by "
-                f"{format_db(alias.digital_db)}, leaving {format_si(alias.residue_v, 'V')} rms "
-                f"against {format_si(alias.allowed_v, 'V')} rms allowed ({alias.allowed_reason}): "
-                f"{verdict_text}.",
-                w.small,
-            )
-        )
+    if design.is_complete:
+        from ...chain.verdict import interferer_checks
+
+        residues = interferer_checks(design, budget)
+        if residues:
+            out.append(w.heading("Stated interferers (interference, not noise)", 1))
+            out += [w.p(line.strip(), w.small) for line in interference_lines(residues)[1:]]
     return out

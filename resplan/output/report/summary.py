@@ -15,6 +15,8 @@ from ...units.formatting import (
     format_si,
     format_temperature,
 )
+from ..interference_text import residue_summary
+from ..verdict_text import failure_rows, verdict_sentence
 from .safety import SUMMARY_CAUTION
 from .style import GREY, MEETS, SECTION_TITLES, SHORT
 from .writer import (
@@ -70,22 +72,21 @@ def _requirement_line(design: Design) -> str:
     return f"{statement} — {target}"
 
 
-def _verdict(w: Writer, budget: Budget | None, plan: Any) -> Any:
+def _verdict(w: Writer, budget: Budget | None, plan: Any, judged: Any = None) -> Any:
     if budget is not None and budget.meets_requirement is not None:
-        meets = budget.meets_requirement
-        margin = budget.margin_bits
-        if meets:
-            text = f"Meets the requirement, margin {signed_bits(margin)}."
-        else:
-            why = " (the ADC overloads)" if budget.overloaded else ""
-            text = f"Does not meet the requirement{why}, margin {signed_bits(margin)}."
-        colour = MEETS if meets else SHORT
+        if judged is None:
+            from ...chain.verdict import judge
+
+            judged = judge(budget)
+        text = verdict_sentence(judged, budget.margin_bits)
+        colour = MEETS if judged.meets else SHORT
     elif plan is not None:
         feasible = bool(getattr(plan, "feasible", False))
         text = (
             "The plan is feasible: limits for every open part are in section 3."
             if feasible
-            else "The plan is infeasible: the fixed parts alone exceed the allowed noise."
+            else "The plan is infeasible: "
+            + "; ".join(getattr(plan, "reasons", ()) or ["see section 3"])
         )
         colour = MEETS if feasible else SHORT
     else:
@@ -98,17 +99,66 @@ def _verdict(w: Writer, budget: Budget | None, plan: Any) -> Any:
     )
 
 
+def _judged(design: Design, budget: Budget | None) -> Any:
+    if budget is None or not design.is_complete:
+        return None
+    from ...chain.verdict import judge_design
+
+    return judge_design(design, budget)
+
+
+def _failures(w: Writer, judged: Any) -> list:
+    """Every failing item, its figure and its limit: the same list as check's."""
+    if judged is None or judged.meets:
+        return []
+    rows = failure_rows(judged.failures)
+    return [
+        w.heading("What fails", 1),
+        w.table(rows, [28, 25, 25, 92], font_size=7),
+    ]
+
+
+def _passband_rows(judged: Any) -> list[list[str]]:
+    rows: list[list[str]] = []
+    if judged is None:
+        return rows
+    d, t = judged.droop, judged.timing
+    if d is not None:
+        rows.append(
+            [
+                "Gain at the band top",
+                f"{d.total_db:+.3f} dB at {format_si(d.frequency_hz, 'Hz')} "
+                f"({d.analog_db:+.3f} dB analog, {d.digital_db:+.3f} dB digital)",
+            ]
+        )
+    if t is not None:
+        settle = "not known" if t.settling_s is None else format_si(t.settling_s, "s")
+        per = "not known" if t.channel_rate_hz is None else format_si(t.channel_rate_hz, "Hz")
+        rows.append(
+            [
+                "Settling, channels",
+                f"{settle} after a step or a channel switch; {t.channels} channel(s), "
+                f"{per} of settled results each",
+            ]
+        )
+    for r in judged.interference:
+        rows.append([f"Interferer {r.item}", f"{r.name}: {residue_summary(r)}; lands {r.lands}"])
+    return rows
+
+
 def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any) -> list:
     req = design.requirement
-    out = [w.heading(SECTION_TITLES[0], 0), _verdict(w, budget, plan)]
+    judged = _judged(design, budget)
+    out = [w.heading(SECTION_TITLES[0], 0), _verdict(w, budget, plan, judged)]
+    out += _failures(w, judged)
     rows: list[list[Any]] = [["Requirement", _requirement_line(design)]]
     if budget is not None:
         b = budget
         rows += [
             [
                 "Verdict",
-                ("meets" if b.meets_requirement else "does not meet")
-                + f" the requirement; margin {signed_bits(b.margin_bits)}",
+                ("meets" if judged is None or judged.meets else "does not meet")
+                + f" the requirement; noise margin {signed_bits(b.margin_bits)}",
             ],
             [
                 "Noise-free resolution, sensor span",
@@ -161,6 +211,7 @@ def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any)
                 "Dominant contributors",
                 "; ".join(f"{c.name} ({c.stage})" for c in b.dominant) or "none",
             ],
+            *_passband_rows(judged),
         ]
         if req.engineering_per_volt and req.engineering_unit:
             unit = req.engineering_unit
