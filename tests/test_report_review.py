@@ -184,3 +184,26 @@ def test_block_diagram_draws_every_part_of_the_chain(built):
             assert line[:12] in text
     if design.reference is not None:
         assert "reference" in text
+
+
+def test_alias_figure_for_every_stated_interferer(built):
+    # Where a tone lands after sampling: f_alias = |f − m·f_s| folded into 0…f_s/2
+    # (sampling theorem; e.g. Oppenheim and Schafer, Discrete-Time Signal Processing,
+    # 3rd ed., §4.2). 190 kHz sampled at 200 kHz lands at 10 kHz (by hand).
+    from resplan.chain.alias import alias_frequency
+    from resplan.chain.verdict import interferer_checks
+    from resplan.output.alias_figure import ALIAS_TITLE
+
+    assert alias_frequency(190e3, 200e3) == pytest.approx(10e3)
+    design, _, _, reader = built
+    text = "\n".join(p.extract_text() for p in reader.pages)
+    if not design.is_complete:
+        return
+    from resplan import forward_budget
+
+    budget = forward_budget(design.chain(), design.band, requirement=design.requirement)
+    residues = [r for r in interferer_checks(design, budget) if r.components or r.residue_v]
+    assert (ALIAS_TITLE in text) == bool(residues)
+    flat = " ".join(text.split())
+    for r in residues:
+        assert r.name in flat

@@ -41,6 +41,7 @@ from ... import __version__
 from ...chain.budget import Budget, forward_budget
 from ...chain.design import Design
 from ...errors import DesignError, ResplanError
+from ..alias_figure import alias_figures
 from ..atomic import atomic_path
 from ..figures import DEFAULT_DPI, figure_svg, make_figures, save_figures
 from .allocation import allocation_section
@@ -154,6 +155,8 @@ def write_report(
         plan, plan_note = _plan_or_note(design)
 
     figs = make_figures(design, budget, plan, sweep_counts=sweep_counts)
+    if figs:
+        figs.update(alias_figures(design, budget))
     svgs = {name: figure_svg(fig, text_as_paths=False) for name, fig in figs.items()}
 
     width = pagesize[0] - 2 * MARGIN

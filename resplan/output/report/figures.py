@@ -13,6 +13,7 @@ from __future__ import annotations
 import io
 from typing import Any
 
+from ..alias_figure import ALIAS_TITLE
 from ..figures import FIGURE_TITLES, caption
 from .fonts import register_svg_fonts
 from .style import SECTION_TITLES
@@ -51,7 +52,7 @@ def figures_section(w: Writer, figs: dict, svgs: dict[str, bytes]) -> list:
     for number, (name, fig) in enumerate(figs.items(), start=1):
         width_in, _ = fig.get_size_inches()
         drawing = vector_drawing(svgs[name], min(w.width, width_in * 72.0))
-        title = FIGURE_TITLES.get(name, name)
+        title = ALIAS_TITLE if name == "alias" else FIGURE_TITLES.get(name, name)
         text = f"<b>Figure {number}. {w.text(title)}.</b> {w.text(caption(fig))}"
         out.append(KeepTogether([drawing, w.p(text, w.caption, markup=True)]))
     return out
