@@ -185,6 +185,9 @@ def judge(command: str, result, folder: Path, seconds: float) -> list[str]:
     """What went wrong with one run (empty when it went right)."""
     problems = []
     exc = result.exception
+    if isinstance(exc, Hang):  # the time limit fired inside the command
+        problems.append(f"hang: over the time limit ({seconds:.0f} s)")
+        return problems
     if exc is not None and not isinstance(exc, SystemExit):
         tb = "".join(traceback.format_exception(type(exc), exc, exc.__traceback__)[-3:])
         problems.append(f"traceback {type(exc).__name__}: {exc!s:.200} | {tb!s:.400}")

@@ -275,22 +275,23 @@ def check(design: str, as_json: bool, ascii_only: bool, worst_case: bool) -> Non
         budget = check_design(judged_design)
         judged = judge_design(judged_design, budget)
         better = improvements(judged_design)
-    if as_json:
-        data = check_data(budget, judged_design, judged)
-        data["figures"] = "worst-case corner" if corner else "typical"
-        if corner:
-            data["worst_case"] = corner.to_dict()
-        data["improve_first"] = improvements_data(better)
-        emit_json(data)
-    else:
-        text = format_budget(budget, judged_design, ascii_only=ascii_only, judged=judged)
-        body, _, last = text.rpartition("\n")  # the verdict stays the last line
-        if corner:
-            click.echo(format_corner(corner, ascii_only=ascii_only) + "\n")
-        click.echo(body)
-        click.echo(format_improvements(better, ascii_only=ascii_only) + "\n")
-        click.echo(figures_line(loaded, corner=corner is not None))
-        click.echo(last)
+    with exit_on_error(loaded):  # the figures written may be infinite: no numpy warning
+        if as_json:
+            data = check_data(budget, judged_design, judged)
+            data["figures"] = "worst-case corner" if corner else "typical"
+            if corner:
+                data["worst_case"] = corner.to_dict()
+            data["improve_first"] = improvements_data(better)
+            emit_json(data)
+        else:
+            text = format_budget(budget, judged_design, ascii_only=ascii_only, judged=judged)
+            body, _, last = text.rpartition("\n")  # the verdict stays the last line
+            if corner:
+                click.echo(format_corner(corner, ascii_only=ascii_only) + "\n")
+            click.echo(body)
+            click.echo(format_improvements(better, ascii_only=ascii_only) + "\n")
+            click.echo(figures_line(loaded, corner=corner is not None))
+            click.echo(last)
     sys.exit(EXIT_OK if judged.meets and budget.requirement is not None else EXIT_NOT_MET)
 
 
@@ -422,10 +423,10 @@ def plan(design: str, weights: str | None, as_json: bool, ascii_only: bool) -> N
     with exit_on_error(loaded):
         overrides = parse_weights(weights) if weights else None
         result = plan_design(loaded, overrides)
-    if as_json:
-        emit_json(plan_data(result, loaded))
-    else:
-        click.echo(format_plan(result, loaded, ascii_only=wants_ascii(ascii_only)))
+        if as_json:
+            emit_json(plan_data(result, loaded))
+        else:
+            click.echo(format_plan(result, loaded, ascii_only=wants_ascii(ascii_only)))
     sys.exit(EXIT_OK if result.feasible else EXIT_NOT_MET)
 
 

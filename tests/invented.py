@@ -174,8 +174,6 @@ def invented_four_stage_chain(**overrides) -> Chain:
     return _chain(defaults, overrides)
 
 
-
-
 def design_of(chain: Chain, counts: float = 1000.0, **fields) -> Design:
     """An INVENTED design around ``chain``: a requirement of ``counts`` noise-free counts.
 

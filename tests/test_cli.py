@@ -136,12 +136,13 @@ def test_check_json_keys_are_stable(runner, tmp_path):
 
 def test_check_json_with_infinite_margin_is_valid_json(runner, tmp_path):
     # An interference allowance larger than the whole budget leaves no room for
-    # noise: the margin is -inf bits, written as the string "-inf".
+    # noise: the margin is -inf bits, written as null with the reason beside it.
     text = example_text("hive-scale").replace('interference = "20 nV"', 'interference = "1 mV"')
     result = runner.invoke(main, ["check", "--json", write(tmp_path, "h.toml", text)])
     assert result.exit_code == 1
     data = strict_json(result.stdout)
-    assert data["margin_bits"] == "-inf"
+    assert data["margin_bits"] is None
+    assert "minus infinity" in data["null_reasons"]["margin_bits"]
     assert data["meets_requirement"] is False
     plain = runner.invoke(main, ["check", str(tmp_path / "h.toml")])
     assert "interference allowance alone" in plain.stdout

@@ -296,7 +296,7 @@ def test_open_gain_from_resistors_and_rc_cutoff():
 
 
 def test_weights_may_name_a_part_by_its_table():
-    text = edit(KICKOFF, 'reference = 1, ADC = 1', "reference = 1, adc = 3")
+    text = edit(KICKOFF, "reference = 1, ADC = 1", "reference = 1, adc = 3")
     assert loads_design(text, "k.toml").weights == {"front end": 2, "reference": 1, "ADC": 3}
 
 

@@ -538,3 +538,26 @@ def test_check_on_a_thousand_stages_in_under_a_second(tmp_path):
     except subprocess.TimeoutExpired:
         raise AssertionError("check on 1,000 stages took over 3 s") from None
     assert done.returncode in (0, 1)
+
+
+# --- found by the fuzz campaign (benchmarks/fuzz_campaign.py) -------------------------------
+
+
+def test_a_value_that_rounds_to_zero_is_refused(runner, tmp_path):
+    # "60e-320 nV" is 6e-328 V: not zero as written, but zero as a double (IEEE 754).
+    path = tmp_path / "d.toml"
+    path.write_text(MINIMAL.replace('noise = "60 nV"', 'noise = "60e-320 nV"'))
+    err = _clean_exit_2(runner.invoke(main, ["check", str(path)]), "adc.noise")
+    assert 'got "60e-320 nV"' in err and "1 aV to 1 MV" in err
+
+
+def test_no_converter_noise_gives_null_with_a_reason_and_no_warning(runner, tmp_path):
+    # A noiseless converter figure: its ENOB is unbounded, written as null with a reason.
+    path = tmp_path / "d.toml"
+    path.write_text(MINIMAL.replace('noise = "60 nV"', 'noise = "0 nV"'))
+    result = runner.invoke(main, ["check", "--json", str(path)])
+    assert result.exit_code == 0 and result.stderr == ""
+    data = json.loads(result.stdout, parse_constant=lambda c: pytest.fail(c))
+    assert data["adc_enob"] is None and "infinite" in data["null_reasons"]["adc_enob"]
+    text = runner.invoke(main, ["check", str(path)])
+    assert text.exit_code == 0 and text.stderr == ""

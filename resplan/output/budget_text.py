@@ -5,7 +5,7 @@ totals, resolution over the sensor span and over the ADC range, the
 requirement, margin and verdict), with a unit on every number and the
 conditions the numbers hold at: coverage and its k_pp, band, temperature,
 output data rate, reference. :func:`check_data` gives the same as plain data
-with stable keys for ``--json``; :func:`json_safe` turns inf and NaN into values
+with stable keys for ``--json``; :func:`json_safe` turns inf and NaN into null with a reason, values
 JSON can hold.
 
 Examples
@@ -324,22 +324,43 @@ def format_budget(
     return ascii_units(text) if ascii_only else text
 
 
+#: Why a figure is written as null, by the kind of value it was.
+_NULL_REASONS = {
+    "inf": "unbounded: the figure is infinite (for example nothing left to divide by)",
+    "-inf": "unbounded below: the figure is minus infinity (for example no room left for noise)",
+    "nan": "undefined: the figure has no value here",
+}
+
+
+def _non_finite(value: Any) -> str | None:
+    if isinstance(value, float) and not math.isfinite(value):
+        return "nan" if math.isnan(value) else ("inf" if value > 0 else "-inf")
+    return None
+
+
 def json_safe(value: Any) -> Any:
-    """Replace inf by the strings ``"inf"``/``"-inf"`` and NaN by None, recursively.
+    """Only finite numbers: inf and NaN become null, with the reason beside them, recursively.
+
+    In a table, each such key is null and ``null_reasons`` (a table of its own in
+    the same place) says why, so that every number a JSON reader sees is finite
+    (RFC 8259 has no inf or NaN) and no null goes unexplained.
 
     Examples
     --------
-    >>> json_safe({"a": float("inf"), "b": [float("nan"), 1.0]})
-    {'a': 'inf', 'b': [None, 1.0]}
+    >>> safe = json_safe({"a": float("inf"), "b": [float("nan"), 1.0]})
+    >>> safe["a"], safe["b"], safe["null_reasons"]["a"][:30]
+    (None, [None, 1.0], 'unbounded: the figure is infin')
     """
     if isinstance(value, float):
-        if math.isnan(value):
-            return None
-        if math.isinf(value):
-            return "inf" if value > 0 else "-inf"
-        return value
+        return None if _non_finite(value) else value
     if isinstance(value, dict):
-        return {str(k): json_safe(v) for k, v in value.items()}
+        out = {str(k): json_safe(v) for k, v in value.items()}
+        reasons = {
+            str(k): _NULL_REASONS[kind] for k, v in value.items() if (kind := _non_finite(v))
+        }
+        if reasons:
+            out["null_reasons"] = {**out.get("null_reasons", {}), **reasons}
+        return out
     if isinstance(value, list | tuple):
         return [json_safe(v) for v in value]
     return value

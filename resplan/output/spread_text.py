@@ -110,8 +110,7 @@ def format_trials(result: TrialResult, design: Design, *, ascii_only: bool = Fal
         "",
         f"Yield: {_yield_percent(result.yield_fraction)} of boards meet every verdict item "
         f"({result.met:,} of {result.trials:,})",
-        f"  95 % interval (Clopper–Pearson exact): {_yield_percent(lo)} … "
-        f"{_yield_percent(hi)}",
+        f"  95 % interval (Clopper–Pearson exact): {_yield_percent(lo)} … {_yield_percent(hi)}",
     ]
     if result.fixed_failures:
         lines.append(

@@ -289,8 +289,7 @@ def _stated_tones(design: Design, chain: Chain, stage) -> list:
                     x.frequency_hz,
                     x.amplitude_v,
                     x.allowance_v,
-                    f"{x.name}: {_v(x.amplitude_v)} rms at "
-                    f"{x.frequency_hz:g} Hz (at the sensor)",
+                    f"{x.name}: {_v(x.amplitude_v)} rms at {x.frequency_hz:g} Hz (at the sensor)",
                 )
             )
         elif isinstance(x, Mains):

@@ -36,12 +36,14 @@ import functools
 import math
 import numbers
 import re
+import sys
 from collections.abc import Iterable
 from fractions import Fraction
 from typing import TYPE_CHECKING, Any, NamedTuple
 
 from ..errors import DesignError
 from . import tables as unittables
+from .ranges import RANGES, range_problem
 
 if TYPE_CHECKING:  # pragma: no cover
     import pint
@@ -562,6 +564,9 @@ def _finite(value: Fraction) -> float:
         raise _Rejected("out of range") from None
     if not math.isfinite(result):
         raise _Rejected("out of range")
+    if value != 0 and (result == 0 or abs(result) < sys.float_info.min):
+        # A value that is not zero but rounds to zero or to a subnormal double.
+        raise _Rejected("out of range: too small to compute with")
     return result
 
 
@@ -618,6 +623,10 @@ such as "4.5 nV/√Hz" (nV is a voltage)
     try:
         return _parse(text, dimension)
     except _Rejected as bad:
+        if bad.reason.startswith("out of range") and dimension in RANGES:
+            # Too large or too small for a double: name the range the field accepts.
+            expected = f"{range_problem(math.inf, dimension)} ({bad.reason})"
+            raise DesignError(field, text, expected) from None
         raise DesignError(field, text, _expected(dimension, bad.reason)) from None
     except Exception:  # a last guard: users never see a traceback
         raise DesignError(field, text, _expected(dimension)) from None
