@@ -97,6 +97,36 @@ FORMULAS: tuple[tuple[str, str, str], ...] = (
         "sampling theorem (as above); attenuation from the responses' closed forms",
     ),
     (
+        "Mains pickup with a frequency tolerance",
+        "each harmonic h·f_mains at its worst frequency in h·f_mains·(1 ± tol), never an exact "
+        "sinc null; harmonics add in power; the worse of 50 Hz and 60 Hz counts",
+        "worst case over the tolerance window; ±1 % is common practice, no source",
+    ),
+    (
+        "Out-of-band spectrum left in the output",
+        "σ² = ∫ S_i(f)·|H_a(f)|²·|H_d(f)|² df over the stated table, folded like noise",
+        "as the noise of a sampled chain (above)",
+    ),
+    (
+        "Pass-band droop",
+        "droop = 20·log10(|H_a(f_top)|·|H_d(f_top)|) dB; sinc^k: k·20·log10|sin(πf_topR/f_s)"
+        "/(R·sin(πf_top/f_s))|",
+        "E. B. Hogenauer, IEEE Trans. ASSP 29, 155 (1981) for the sinc^k response",
+    ),
+    (
+        "Settling and per-channel rate",
+        "sinc^k: k output periods; average of N: N input periods; FIR of L taps: L input "
+        "periods; stages add; per channel 1/(N_ch·max(t_settle, 1/ODR))",
+        "impulse-response length of each filter (Hogenauer 1981 for sinc^k)",
+    ),
+    (
+        "Aperture jitter",
+        "σ = 2π·f·A_rms·σ_j at a full-span sine of the signal frequency; "
+        "SNR_j = −20·log10(2π·f·σ_j)",
+        "W. Kester (ed.), Data Conversion Handbook, Newnes (2005), ch. 2 (from memory); "
+        "aperture jitter as defined in IEEE Std 1241-2010",
+    ),
+    (
         "Quantisation noise",
         "σ_q = q/√12, q = FSR/2^N",
         "W. R. Bennett, Bell Syst. Tech. J. 27, 446 (1948)",
