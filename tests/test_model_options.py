@@ -111,3 +111,70 @@ def test_engineering_units_refused_with_the_field(capacity, resolution, field):
     with pytest.raises(DesignError) as info:
         Requirement.from_resolution(10e-3, resolution, capacity)
     assert info.value.field == field
+
+
+# --- an ideal band limit at a delta-sigma converter's output rate ----------------------------
+
+
+def _ideal_band_chain(cutoff_hz: float, odr_hz: float = 20.0):
+    """INVENTED: 1 kΩ source → RC (1 kΩ, 100 nF) → delta-sigma, 0.2 µV rms at 20 SPS, and an
+    ideal band limit at its output with no model of its decimator."""
+    from resplan import ADC, Chain, DigitalPath, IdealLowpass, RCFilter, Sensor
+
+    return Chain(
+        Sensor(10e-3, 1e3, name="invented source"),
+        (RCFilter("invented RC", 1e3, 100e-9),),
+        ADC(
+            "invented converter",
+            "delta-sigma",
+            24,
+            5.0,
+            256e3,
+            NoiseAtRate(0.2e-6, odr_hz),
+            data_rate_hz=odr_hz,
+        ),
+        digital=DigitalPath((IdealLowpass(cutoff_hz, odr_hz),)),
+    )
+
+
+@pytest.mark.parametrize("cutoff", [10.0, 5.0])
+def test_an_ideal_band_after_the_converter_output(cutoff):
+    from scipy import constants
+
+    chain = _ideal_band_chain(cutoff)
+    assert chain.output_rate_hz == 20.0
+    budget = forward_budget(chain, Band(0.1, cutoff))
+    # The converter's figure at 20 SPS holds its noise over 0 … ODR/2 (taken flat); an ideal
+    # band to f_c keeps f_c/(ODR/2) of its power.
+    assert budget["adc.noise"].adc_rms_v == pytest.approx(
+        0.2e-6 * math.sqrt(cutoff / 10.0), rel=1e-6
+    )
+    # The source's thermal noise 4kTR through the RC's pole f_p = 1/(2π(R_s + R)C), over
+    # 0.1 Hz … f_c: ∫ df/(1 + (f/f_p)²) = f_p·(atan(f_c/f_p) − atan(0.1/f_p)) (standard
+    # integral). Images near multiples of 256 kHz add ~1e-4 through the pole: rel 5e-4.
+    fp = 1.0 / (2 * math.pi * 2e3 * 100e-9)
+    enbw = fp * (math.atan(cutoff / fp) - math.atan(0.1 / fp))
+    want = math.sqrt(4 * constants.k * chain.temperature_k * 1e3 * enbw)
+    assert budget["sensor.thermal"].rms_v == pytest.approx(want, rel=5e-4)
+
+
+def test_a_band_at_the_output_rate_with_a_sinc_after_it_is_still_refused():
+    from resplan import ADC, Chain, DigitalPath, IdealLowpass, RCFilter, Sensor, SincFilter
+    from resplan.errors import DesignError
+
+    with pytest.raises(DesignError) as info:
+        Chain(
+            Sensor(10e-3, 1e3),
+            (RCFilter("invented RC", 1e3, 100e-9),),
+            ADC(
+                "invented",
+                "delta-sigma",
+                24,
+                5.0,
+                256e3,
+                NoiseAtRate(0.2e-6, 20.0),
+                data_rate_hz=20.0,
+            ),
+            digital=DigitalPath((IdealLowpass(10.0, 20.0), SincFilter(1, 2, 20.0))),
+        )
+    assert info.value.field.startswith("digital_filter")

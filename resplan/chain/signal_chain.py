@@ -8,7 +8,7 @@ from functools import cached_property
 
 from ..errors import DesignError
 from ..noise.bandwidth import DigitalPath, noise_bandwidth
-from ..noise.responses import AnalogLowpass, SincFilter
+from ..noise.responses import AnalogLowpass, IdealLowpass, SincFilter
 from .converter import ADC
 from .stages import AnalogStage, RCFilter, Reference, Sensor, check_positive
 
@@ -77,6 +77,9 @@ class Chain:
         check_positive("temperature", self.temperature_k, "a temperature above 0 K")
         object.__setattr__(self, "stages", tuple(self.stages))
         adc = self.adc
+        band = _band_at_output_rate(self.digital, adc)
+        if band is not None:
+            object.__setattr__(self, "digital", band)
         if self.digital is not None:
             if not math.isclose(self.digital.sample_rate_hz, adc.sample_rate_hz, rel_tol=1e-9):
                 raise DesignError(
@@ -86,13 +89,16 @@ class Chain:
                 )
         if adc.architecture == "delta-sigma":
             first = self.digital.stages[0] if self.digital else None
-            if not isinstance(first, SincFilter):
+            if not (isinstance(first, SincFilter) or _ideal_decimator(first)):
                 raise DesignError(
                     "digital_filter",
                     "none" if first is None else type(first).__name__,
-                    "a sinc decimation filter as the first digital stage of a delta-sigma ADC",
+                    "a sinc decimation filter as the first digital stage of a delta-sigma ADC, "
+                    "or only ideal band limits at its data rate",
                 )
-            if not math.isclose(first.output_rate_hz, adc.output_rate_hz, rel_tol=1e-6):
+            if isinstance(first, SincFilter) and not math.isclose(
+                first.output_rate_hz, adc.output_rate_hz, rel_tol=1e-6
+            ):
                 raise DesignError(
                     "digital_filter[0].length",
                     first.length,
@@ -183,8 +189,14 @@ class Chain:
         """Digital stages after the ADC's own output (averaging, band limits)."""
         if self.digital is None:
             return ()
-        skip = 1 if self.adc.architecture == "delta-sigma" else 0
-        return self.digital.stages[skip:]
+        return self.digital.stages[1 if self._decimated else 0 :]
+
+    @property
+    def _decimated(self) -> bool:
+        """The first digital stage is the converter's own (modelled) decimation filter."""
+        return self.adc.architecture == "delta-sigma" and isinstance(
+            self.digital.stages[0] if self.digital else None, SincFilter
+        )
 
     @property
     def output_rate_hz(self) -> float:
@@ -206,9 +218,13 @@ class Chain:
         fs = self.adc.sample_rate_hz
         f_low = self.output_rate_hz * 1e-6
         full = noise_bandwidth((), self.digital, f_low, folded_source=True).white_hz + f_low
-        if self.adc.architecture == "delta-sigma":
+        if self._decimated:
             own_path = DigitalPath(self.digital.stages[:1])
             own = noise_bandwidth((), own_path, f_low, folded_source=True).white_hz + f_low
+        elif self.adc.architecture == "delta-sigma":
+            # An ideal band limit after the converter's output: its noise is taken as
+            # flat over its own Nyquist band, 0 … ODR/2.
+            own = self.adc.output_rate_hz / 2
         else:
             own = fs / 2
         return full / own
@@ -243,3 +259,36 @@ def describe_reference(reference: Reference | None) -> str:
             "its density taken as flat to half the sample rate"
         )
     return "evaluated at the largest ADC input the sensor produces"
+
+
+def _ideal_decimator(stage) -> bool:
+    return isinstance(stage, IdealLowpass) and stage.decimate_to_hz is not None
+
+
+def _band_at_output_rate(digital: DigitalPath | None, adc) -> DigitalPath | None:
+    """An ideal band limit stated at a delta-sigma converter's data rate, as the chain runs it.
+
+    Ideal band limits running at the converter's output rate, with no model of its
+    decimation filter in front, become one ideal decimator from the modulator rate:
+    band-limited to the lowest cut-off, output at the data rate. Analog noise then
+    counts from the band and from the images around multiples of the modulator
+    rate (which a real decimator passes too); the converter's own figure at its
+    data rate is scaled by cut-off/(ODR/2). Returns None when the path is not of
+    that form (band limits with a stated FIR length keep their own settling, so
+    they are left as given).
+    """
+    if digital is None or adc.architecture != "delta-sigma":
+        return None
+    if math.isclose(digital.sample_rate_hz, adc.sample_rate_hz, rel_tol=1e-9):
+        return None
+    if not math.isclose(digital.sample_rate_hz, adc.output_rate_hz, rel_tol=1e-9):
+        return None
+    if not all(
+        isinstance(s, IdealLowpass) and s.decimate_to_hz is None and s.taps is None
+        for s in digital.stages
+    ):
+        return None
+    cutoff = min(s.cutoff_hz for s in digital.stages)
+    return DigitalPath(
+        (IdealLowpass(cutoff, adc.sample_rate_hz, decimate_to_hz=adc.output_rate_hz),)
+    )

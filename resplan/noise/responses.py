@@ -304,12 +304,22 @@ class IdealLowpass:
     >>> b = IdealLowpass(10_000.0, 50_000.0)
     >>> b.power_gain([5e3, 20e3, 45e3]).tolist()
     [1.0, 0.0, 1.0]
+
+    With ``decimate_to_hz`` it also drops the rate to that output rate after the
+    band limit: an ideal decimator. A delta-sigma converter whose own filter is
+    not modelled is taken this way, its output band-limited to ``cutoff_hz`` ≤
+    half its data rate (see :class:`resplan.chain.signal_chain.Chain`).
+
+    >>> IdealLowpass(10.0, 256e3, decimate_to_hz=20.0).output_rate_hz
+    20.0
     """
 
     cutoff_hz: float
     input_rate_hz: float
     #: Length of the FIR filter that realises it, taps (None: not stated); sets its settling.
     taps: int | None = None
+    #: Output rate after an ideal decimation, Hz (None: no decimation).
+    decimate_to_hz: float | None = None
 
     def __post_init__(self) -> None:
         _positive("digital_filter.input_rate", self.input_rate_hz, "a sample rate > 0 Hz")
@@ -322,10 +332,24 @@ class IdealLowpass:
                 self.cutoff_hz,
                 f"a band edge ≤ half the sample rate ({self.input_rate_hz / 2:g} Hz)",
             )
+        if self.decimate_to_hz is not None:
+            _positive("digital_filter.output_rate", self.decimate_to_hz, "a data rate > 0 Hz")
+            if self.decimate_to_hz > self.input_rate_hz * (1 + 1e-9):
+                raise DesignError(
+                    "digital_filter.output_rate",
+                    self.decimate_to_hz,
+                    f"a data rate ≤ the input rate ({self.input_rate_hz:g} Hz)",
+                )
+            if self.cutoff_hz > self.decimate_to_hz / 2 * (1 + 1e-9):
+                raise DesignError(
+                    "band.f_high",
+                    self.cutoff_hz,
+                    f"a band edge ≤ half the data rate ({self.decimate_to_hz / 2:g} Hz)",
+                )
 
     @property
     def output_rate_hz(self) -> float:
-        return self.input_rate_hz
+        return self.input_rate_hz if self.decimate_to_hz is None else self.decimate_to_hz
 
     @property
     def period_hz(self) -> float:

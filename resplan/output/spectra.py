@@ -585,7 +585,9 @@ def rate_carry(chain: Chain) -> str:
     integrates over whatever filter follows ("density"). A single figure at one
     rate, an SNR at its stated rate or transition noise cannot.
     """
-    if chain.adc.architecture != "delta-sigma" or chain.digital is None:
+    if chain.adc.architecture != "delta-sigma" or not isinstance(
+        chain.digital.stages[0] if chain.digital else None, SincFilter
+    ):
         return ""
     noise = chain.adc.noise
     if isinstance(noise, NoiseTable):
