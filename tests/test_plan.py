@@ -205,7 +205,7 @@ def test_round_trip_zero_margin(kwargs):
     b = forward_budget(chain, d.band, requirement=d.requirement)
     # Every open part at its limit: the forward check equals the target. The planner
     # integrates closed-form responses, the forward check the solved circuit's transfer
-    # table (interpolated between 40 points a decade): they agree to 1e-6 relative.
+    # table (interpolated between 80 points a decade): they agree to 1e-6 relative.
     assert b.total_rms_v == pytest.approx(plan.allowed_noise_rms_v, rel=1e-6)
     assert b.margin_bits == pytest.approx(0.0, abs=2e-6)
 
