@@ -3,8 +3,9 @@
 Each case is an INVENTED chain (demo values only). The budget sums the analog
 contributions at the ADC input; the same circuit, written here part by part as an
 independent netlist (op amps with A₀ = 1e9 where the chain's are ideal in DC gain),
-goes through ngspice's ``.noise`` from 10 mHz to 100 GHz. The budget integrates from
-10 mHz to infinity, on 100 points a decade; above 100 GHz every case has less than 1e-4 of its power (the
+goes through ngspice's ``.noise`` from 10 mHz to 100 GHz on 100 points a decade. The
+budget integrates from 10 mHz to infinity; above 100 GHz every case has less than 1e-4
+of its power (the
 highest pole is a 10 MHz op-amp pole: (1e7/1e11)/(π/2) = 6e-5), and ngspice's k
 differs from the SI value by 3.5e-7, so agreement within 1e-3 is asked, as the issue
 states; it comes out better than 1e-4.
