@@ -42,12 +42,27 @@ from .chain.stages import (
     Reference,
     Sensor,
 )
+from .chain.tolerance import Spread
 from .errors import ChainError, DesignError, DesignErrors, ResplanError
 from .noise.bandwidth import DigitalPath, NoiseBandwidth, integrate_psd, noise_bandwidth
 from .noise.physics import CoverageProbability, coverage_for_factor, peak_to_peak_factor
 from .noise.responses import AnalogLowpass, IdealLowpass, SincFilter
+from .spread.corner import Corner, worst_case
+from .spread.improve import Improvement, improvements
+from .spread.model import SpreadModel, build_model
+from .spread.trials import TrialResult, clopper_pearson, run_trials
 
 __all__ = [
+    "Corner",
+    "Improvement",
+    "Spread",
+    "SpreadModel",
+    "TrialResult",
+    "build_model",
+    "clopper_pearson",
+    "improvements",
+    "run_trials",
+    "worst_case",
     "ADC",
     "ActiveFilter",
     "AnalogLowpass",

@@ -417,6 +417,7 @@ def plan(design: str, weights: str | None, as_json: bool, ascii_only: bool) -> N
       resplan plan kickoff.toml --weights "front end=2,adc=1" --json
     """
     from .output.plan_text import format_plan, plan_data
+    from .output.spread_text import figures_line
     from .plan.allocation import parse_weights, plan_design
 
     loaded = load_design_or_exit(design)
@@ -424,9 +425,13 @@ def plan(design: str, weights: str | None, as_json: bool, ascii_only: bool) -> N
         overrides = parse_weights(weights) if weights else None
         result = plan_design(loaded, overrides)
         if as_json:
-            emit_json(plan_data(result, loaded))
+            data = plan_data(result, loaded)
+            data["figures"] = "typical"
+            emit_json(data)
         else:
-            click.echo(format_plan(result, loaded, ascii_only=wants_ascii(ascii_only)))
+            text = format_plan(result, loaded, ascii_only=wants_ascii(ascii_only))
+            body, _, last = text.rpartition("\n")  # the verdict stays the last line
+            click.echo(body + "\n" + figures_line(loaded) + "\n" + last)
     sys.exit(EXIT_OK if result.feasible else EXIT_NOT_MET)
 
 

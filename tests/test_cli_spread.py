@@ -98,3 +98,29 @@ def test_check_worst_case_names_the_corner(runner, tmp_path):
     typical_data = _strict(runner.invoke(main, ["check", path, "--json"]).stdout)
     assert typical_data["figures"] == "typical"
     assert data["total_noise_rms_v"] > typical_data["total_noise_rms_v"]
+
+
+def test_plan_says_its_figures_are_typical(runner, tmp_path):
+    result = runner.invoke(main, ["plan", _write(tmp_path, example_text("kickoff-bridge"))])
+    lines = result.stdout.strip().splitlines()
+    assert lines[-2].startswith("figures: typical") and lines[-1].startswith(("FEASIBLE", "INF"))
+    data = _strict(
+        runner.invoke(main, ["plan", _write(tmp_path, SPREAD, "s.toml"), "--json"]).stdout
+    )
+    assert data["figures"] == "typical"
+
+
+def test_progress_is_reported_chunk_by_chunk():
+    from resplan.designfile.examples import load_example
+    from resplan.spread.model import build_model
+    from resplan.spread.trials import run_trials
+
+    seen = []
+    run_trials(
+        build_model(load_example("hive-spread")),
+        10_000,
+        1,
+        chunk=3_000,
+        progress=lambda done, total: seen.append((done, total)),
+    )
+    assert seen == [(3000, 10000), (6000, 10000), (9000, 10000), (10000, 10000)]
