@@ -241,3 +241,20 @@ def test_residue_floor():
     assert format_residue(5.91e-54) == "below 1e-15 V"
     assert format_residue(0.0) == "below 1e-15 V"
     assert format_residue(2.4e-6) == "2.40 µV rms"
+
+
+def test_plan_is_infeasible_when_the_given_digital_path_breaks_timing_or_flatness():
+    from resplan.designfile.examples import example_text
+    from resplan.designfile.load import loads_design
+
+    text = example_text("kickoff-bridge")
+    plain = plan_design(loads_design(text, "k.toml"))
+    strict = text.replace(
+        "[requirement]",
+        '[requirement]\nsettling_time = "1 ms"\npassband_flatness = "0.001 dB"',
+        1,
+    )
+    plan = plan_design(loads_design(strict, "k.toml"))
+    assert plain.feasible and not plan.feasible
+    assert any(r.startswith("settling:") for r in plan.reasons)
+    assert any(r.startswith("passband_flatness:") for r in plan.reasons)

@@ -283,7 +283,9 @@ def plan_design(
                 f"{row.part} ({row.field_path}): no filter order up to 8 suppresses the stated "
                 f"interferer ({row.quantity}; {row.condition})"
             )
-    if any(
+    digital_reasons = _digital_path_reasons(design, chain)
+    reasons.extend(digital_reasons)
+    if digital_reasons or any(
         r.startswith("the ADC's noise needs") or "suppresses the stated interferer" in r
         for r in reasons
     ):
@@ -309,6 +311,45 @@ def plan_design(
         output_rate_hz=chain.output_rate_hz,
         limits=limits,
     )
+
+
+def _digital_path_reasons(design: Design, chain) -> list[str]:
+    """Stated settling, per-channel rate and flatness that the given digital path alone breaks.
+
+    The conversion and digital path are never open parts, so what they fix cannot be
+    planned away: sinc^k settling (k output periods), the per-channel rate, and the
+    digital filter's own droop at the band top (an analog filter only adds to it).
+    """
+    from ..chain.passband import passband_droop
+    from ..chain.timing import digital_timing
+
+    req = design.requirement
+    out: list[str] = []
+    timing = digital_timing(chain)
+    if req.settling_time_s is not None and timing.settling_s is not None:
+        if timing.settling_s > req.settling_time_s * (1 + 1e-12):
+            out.append(
+                f"settling: the conversion and digital path settle in "
+                f"{format_si(timing.settling_s, 's')}, longer than the "
+                f"{format_si(req.settling_time_s, 's')} allowed"
+            )
+    if req.channel_rate_hz is not None and timing.channel_rate_hz is not None:
+        if timing.channel_rate_hz < req.channel_rate_hz * (1 - 1e-12):
+            out.append(
+                f"channel_rate: each of {timing.channels} channels gets "
+                f"{format_si(timing.channel_rate_hz, 'Hz')} of settled results, below the "
+                f"{format_si(req.channel_rate_hz, 'Hz')} required"
+            )
+    top = design.band.f_high_hz
+    if req.passband_flatness_db is not None and top is not None and chain.digital is not None:
+        digital_db = passband_droop(chain, top).digital_db
+        if abs(digital_db) > req.passband_flatness_db * (1 + 1e-12):
+            out.append(
+                f"passband_flatness: the digital filter alone is {digital_db:+.3f} dB at the "
+                f"band top {format_si(top, 'Hz')}, past the ±{req.passband_flatness_db:.3g} dB "
+                "allowed"
+            )
+    return out
 
 
 def _standing_assumptions(design: Design, budget: Budget) -> list[str]:
