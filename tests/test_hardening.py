@@ -170,7 +170,7 @@ def test_symlink_to_dev_zero_is_refused_without_reading(runner, tmp_path):
     link.symlink_to("/dev/zero")
     start = time.perf_counter()
     _clean_exit_2(runner.invoke(main, ["check", str(link)]), "device")
-    assert time.perf_counter() - start < 1.0
+    assert time.perf_counter() - start < 5.0
 
 
 @pytest.mark.parametrize("command", ["check", "plan", "report"])
@@ -184,7 +184,7 @@ def test_file_over_one_megabyte_is_refused(runner, tmp_path):
     assert path.stat().st_size > MAX_FILE_BYTES
     start = time.perf_counter()
     _clean_exit_2(runner.invoke(main, ["check", str(path)]), "1 MB")
-    assert time.perf_counter() - start < 1.0
+    assert time.perf_counter() - start < 5.0
 
 
 def test_many_unknown_keys_under_the_size_limit_are_quick(runner, tmp_path):
@@ -196,7 +196,7 @@ def test_many_unknown_keys_under_the_size_limit_are_quick(runner, tmp_path):
     assert path.stat().st_size < MAX_FILE_BYTES
     start = time.perf_counter()
     err = _clean_exit_2(runner.invoke(main, ["check", str(path)]), "digital")
-    assert time.perf_counter() - start < 3.0
+    assert time.perf_counter() - start < 10.0  # was over 120 s for 50 MB
     assert len(err.splitlines()) <= 101
 
 
@@ -209,7 +209,7 @@ def test_deep_nesting_is_refused(runner, tmp_path, depth, command):
     assert len(err.splitlines()) == 1
 
 
-@pytest.mark.parametrize("command", ["check", "plan"])
+@pytest.mark.parametrize("command", ["check", "plan", "report"])
 def test_long_text_is_refused_and_shortened_in_the_message(runner, tmp_path, command):
     path = tmp_path / "long.toml"
     path.write_text(_set(MINIMAL, "sensor", "name", '"' + "n" * 1500 + '"'))
@@ -265,7 +265,7 @@ def test_read_only_folder_refused_before_any_work(runner, tmp_path, monkeypatch)
     start = time.perf_counter()
     result = runner.invoke(main, ["report", "examples/minimal.toml", "-o", str(tmp_path / "r.pdf")])
     _clean_exit_2(result, "a folder you can write to")
-    assert time.perf_counter() - start < 1.0  # nothing was rendered
+    assert time.perf_counter() - start < 5.0  # nothing was rendered
     result = runner.invoke(
         main, ["report", "examples/minimal.toml", "-o", "x.pdf", "--figures", str(tmp_path)]
     )
@@ -561,3 +561,34 @@ def test_no_converter_noise_gives_null_with_a_reason_and_no_warning(runner, tmp_
     assert data["adc_enob"] is None and "infinite" in data["null_reasons"]["adc_enob"]
     text = runner.invoke(main, ["check", str(path)])
     assert text.exit_code == 0 and text.stderr == ""
+
+
+def test_each_problem_is_listed_once():
+    from resplan.errors import DesignError, DesignErrors
+
+    same = DesignError("adc.bits", 99, "a whole number of bits from 1 to 32")
+    assert str(DesignErrors([same, same, same])).splitlines() == [str(same)]
+
+
+def test_a_problem_found_while_computing_names_the_file_and_the_table():
+    # A part's label (as the chain names it) becomes its table, with the file in front.
+    from resplan.designfile.load import loads_design, placed
+    from resplan.errors import ChainError
+
+    design = loads_design(example_text("hive-scale"), "hive.toml")
+    label = design.stages[0].name
+    err = placed(ChainError(f"{label}.capacitance", "10 nF", "something else"), design)
+    assert str(err).startswith("hive.toml: stages[0].capacitance: got ")
+
+
+def test_plan_of_a_hopeless_span_answers_at_once(runner, tmp_path):
+    # Found by the campaign: a 1e-14 V span made the averaging lever try every length
+    # (33 s). Averaging N results lowers white noise power by N at best (Parseval), so
+    # a gap beyond 2^24 (with a margin) is named without trying each length.
+    path = tmp_path / "d.toml"
+    path.write_text(MINIMAL.replace('span = "10 mV"', 'span = "10e-12 mV"'))
+    start = time.perf_counter()
+    result = runner.invoke(main, ["plan", str(path)])
+    assert result.exit_code == 1 and result.stderr == ""
+    assert "not enough alone" in result.stdout
+    assert time.perf_counter() - start < 10.0

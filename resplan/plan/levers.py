@@ -111,6 +111,19 @@ def _averaging_lever(chain: Chain, band, req, grid_points: int) -> Lever:
     """Find the shortest extra averaging (a narrower band) that makes the fixed parts fit."""
     rate = chain.output_rate_hz
     top = band.f_high_hz
+    # Averaging N results lowers white noise power by N (and 1/f noise not at all); allow
+    # a factor 16 more for noise shaped toward high frequencies. When even the longest
+    # averaging cannot close the gap, say so at once rather than try every length.
+    current = forward_budget(chain, band, requirement=req, grid_points=grid_points)
+    allowed = req.allowed_noise_rms_v
+    if not allowed > 0 or (current.total_rms_v / allowed) ** 2 > 16 * 2.0**_MAX_AVERAGING_DOUBLINGS:
+        return Lever(
+            "longer averaging / narrower band",
+            None,
+            "",
+            f"not enough alone: even 2^{_MAX_AVERAGING_DOUBLINGS} averages do not fit "
+            "(1/f noise does not average down)",
+        )
     for k in range(1, _MAX_AVERAGING_DOUBLINGS + 1):
         n = 2**k
         if top is not None and rate / n < 2 * top * (1 - 1e-12):
