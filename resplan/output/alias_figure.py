@@ -16,7 +16,7 @@ from __future__ import annotations
 import math
 from typing import TYPE_CHECKING, Any
 
-from ..units.formatting import format_si
+from ..units.formatting import format_si, format_tick
 from .figures import _STYLE, _WIDTH_IN, OKABE_ITO, _set_caption, _title
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -31,7 +31,7 @@ ALIAS_TITLE = "Interferers: where each lands after sampling, and what is left of
 
 def hz_tick(x: float, _pos=None) -> str:
     """A frequency tick label with an engineering prefix ("10 kHz"), as every output writes."""
-    return format_si(x, "Hz", digits=3).replace(".00 ", " ").replace(".0 ", " ")
+    return format_tick(x, "Hz")
 
 
 def alias_figure(design: Design, budget: Budget) -> Figure | None:
@@ -116,7 +116,7 @@ def alias_figure(design: Design, budget: Budget) -> Figure | None:
         bx.barh(y - 0.18, allow, height=0.34, color="#bdbdbd", label="allowed")
         bx.set_xlim(0, 1.15 * max([*resid, *allow]))
         bx.set_yticks(y, names)
-        bx.xaxis.set_major_formatter(FuncFormatter(lambda v, _p=None: format_si(v, "V", 2)))
+        bx.xaxis.set_major_formatter(FuncFormatter(lambda v, _p=None: format_tick(v, "V")))
         bx.xaxis.set_minor_formatter(NullFormatter())
         bx.legend(loc="lower right", fontsize=6)
         bx.set_xlabel("V rms at the sensor")

@@ -26,7 +26,7 @@ from typing import TYPE_CHECKING, Any
 
 from ..chain.budget import Budget
 from ..errors import DesignError
-from ..units.formatting import format_bits, format_percent, format_si
+from ..units.formatting import format_bits, format_percent, format_si, format_tick
 from .atomic import write_bytes_atomic
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -194,10 +194,8 @@ def _title(fig: Figure, text: str) -> None:
 
 
 def _rate_label(x: float, _pos=None) -> str:
-    """A rate tick label in Hz: plain below 1000, in thousands ("25 k") above."""
-    if x >= 1000:
-        return f"{x / 1000:.3g} k"
-    return f"{x:.3g}"
+    """A rate or frequency tick label with an engineering prefix ("25 kHz", "1 MHz")."""
+    return format_tick(x, "Hz")
 
 
 #: Swept points closer than this rate ratio to one already labelled get no label or tick.
@@ -314,7 +312,8 @@ def _density_figure(chain, budget: Budget, spectra) -> Figure:
     if top > 0:
         ax.set_ylim(top * 1e-4, top * 3)
     ax.set_xlim(spectra.edges_hz[0], spectra.edges_hz[-1])
-    ax.set_xlabel("frequency (Hz)")
+    ax.set_xlabel("frequency")
+    ax.xaxis.set_major_formatter(_rate_label)
     ax.set_ylabel("noise density at the sensor (V/√Hz)")
     if spectra.quoted_top_hz < 0.9 * spectra.f_top_hz:
         ax.axvline(spectra.quoted_top_hz, color=_GREY, linewidth=0.6, linestyle=(0, (2, 2)))
@@ -351,6 +350,7 @@ def _density_figure(chain, budget: Budget, spectra) -> Figure:
                 label="digital filter, dB (right axis)",
             )
     right.set_ylim(-130, 10)
+    right.xaxis.set_major_formatter(_rate_label)  # the twin re-set the shared axis
     right.set_ylabel("filter response (dB)")
     handles, labels = ax.get_legend_handles_labels()
     h2, l2 = right.get_legend_handles_labels()
@@ -418,7 +418,8 @@ def _cumulative_figure(budget: Budget, cumulative, spectra) -> Figure:
         )
     ax.set_xlim(spectra.edges_hz[0], end_f * 1.5)
     ax.set_ylim(bottom=0)
-    ax.set_xlabel("frequency (Hz)")
+    ax.set_xlabel("frequency")
+    ax.xaxis.set_major_formatter(_rate_label)
     ax.set_ylabel(f"rms noise at the sensor ({prefix}V)")
     ax.legend(loc="lower right")
     _title(fig, FIGURE_TITLES["cumulative_noise"])
@@ -622,7 +623,7 @@ def _resolution_figure(budget: Budget, sweep) -> Figure:
                 color=_GREY,
             )
     ax.margins(y=0.2)
-    ax.set_xlabel("output data rate (Hz)")
+    ax.set_xlabel("output data rate")
     ax.set_ylabel("noise-free resolution over the span (bits)")
     ax.legend(loc="best")
     _title(fig, FIGURE_TITLES["resolution_vs_rate"])

@@ -27,6 +27,7 @@ __all__ = [
     "format_percent",
     "format_temperature",
     "ascii_units",
+    "format_tick",
 ]
 
 #: Units written as plain numbers, never with an SI prefix: ratios and gains,
@@ -172,6 +173,23 @@ def format_si(value: float, unit: str, digits: int = 3) -> str:
     sign = "-" if value < 0 else ""
     number = f"{sign}{scaled:.{max(digits - 1 - shift, 0)}f}"
     return f"{number} {_PREFIXES[engineering]}{unit}"
+
+
+def format_tick(value: float, unit: str) -> str:
+    """An axis tick label: engineering prefix, no trailing zeros ("10 kHz", "2.5 µV").
+
+    Examples
+    --------
+    >>> [format_tick(x, "Hz") for x in (0.01, 1.0, 1e3, 25e3, 1e6, 0.0)]
+    ['10 mHz', '1 Hz', '1 kHz', '25 kHz', '1 MHz', '0 Hz']
+    >>> format_tick(2.5e-6, "V")
+    '2.5 µV'
+    """
+    text = format_si(value, unit)
+    number, _, rest = text.partition(" ")
+    if "." in number and "e" not in number:
+        number = number.rstrip("0").rstrip(".")
+    return f"{number} {rest}" if rest else number
 
 
 def format_db(value: float) -> str:

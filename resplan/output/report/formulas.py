@@ -67,7 +67,8 @@ FORMULAS: tuple[tuple[str, str, str], ...] = (
     (
         "Butterworth attenuation",
         "A(f) = 10·log10(1 + (f/f_c)^2n) dB",
-        "S. Butterworth, Wireless Engineer 7, 536 (1930) (from memory)",
+        "S. Butterworth, \"On the Theory of Filter Amplifiers\", Experimental Wireless and the "
+        "Wireless Engineer 7, 536–541 (1930)",
     ),
     (
         "Bessel low-pass",
@@ -88,7 +89,8 @@ FORMULAS: tuple[tuple[str, str, str], ...] = (
     (
         "Noise of a sampled chain, aliases included",
         "σ² = ∫ S(f)·|H_a(f)|²·|H_d(f)|² df, |H_d| periodic in f_s (folded into 0…f_s/2)",
-        "sampling theorem: C. E. Shannon, Proc. IRE 37, 10 (1949) (from memory); periodic "
+        "sampling theorem: C. E. Shannon, \"Communication in the Presence of Noise\", Proc. IRE "
+        "37(1), 10–21 (1949); periodic "
         "digital response, Oppenheim and Schafer",
     ),
     (

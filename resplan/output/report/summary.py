@@ -57,19 +57,25 @@ def title_block(w: Writer, design: Design) -> list:
 
 
 def _requirement_line(design: Design) -> str:
+    """The requirement, stated once: the design's statement, and the target unless the
+    statement already gives it (a statement written from the target is not repeated)."""
     req = design.requirement
+    statement = req.description or ""
     if req.noise_free_counts is not None:
+        bits = format_bits(req.required_noise_free_bits)
+        if "count" in statement:
+            return f"{statement} ({bits})"
         target = (
-            f"{format_counts(req.noise_free_counts)} noise-free counts "
-            f"({format_bits(req.required_noise_free_bits)}) over "
+            f"{format_counts(req.noise_free_counts)} noise-free counts ({bits}) over "
             f"{format_si(req.span_v, 'V')}"
         )
     else:
+        if "dynamic range" in statement:
+            return statement
         target = (
             f"{format_db(req.dynamic_range_db)} dynamic range over {format_si(req.span_v, 'V')}"
         )
-    statement = req.description or "no statement given"
-    return f"{statement} — {target}"
+    return f"{statement} — {target}" if statement else target
 
 
 def _verdict(w: Writer, budget: Budget | None, plan: Any, judged: Any = None) -> Any:
