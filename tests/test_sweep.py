@@ -322,7 +322,7 @@ def test_figure_of_a_table_sweep_names_skips_band_and_coverage():
     assert "interference allowance" in text
     (ax,) = fig.axes
     assert ax.get_xscale() == "log"
-    assert ax.get_xlabel() == "output data rate (Hz)"
+    assert ax.get_xlabel() == "output data rate"
     assert "(bits)" in ax.get_ylabel()
     # One hollow marker (2.5 Hz), the design's diamond at its own point.
     hollow = [line for line in ax.lines if line.get_markerfacecolor() == "white"]
