@@ -113,3 +113,23 @@ def test_plan_html_and_records():
     assert len(plan.to_records("allocations")) == len(plan.allocations)
     with pytest.raises(ValueError):
         plan.to_records("everything")
+
+
+def test_spread_results_as_records_and_html():
+    # The embedded hive-spread example (invented): its Monte Carlo result and worst case.
+    from resplan.spread.corner import worst_case
+    from resplan.spread.model import build_model
+    from resplan.spread.trials import run_trials
+
+    design = load_example("hive-spread")
+    result = run_trials(build_model(design), 2000, seed=1)
+    rows = result.to_records()
+    assert [r["field"] for r in rows] == [d.field for d in result.drivers]
+    text = _parse(result._repr_html_())
+    assert "yield" in text and "Clopper-Pearson" in text
+    assert all(d.field in text for d in result.drivers)
+    corner = worst_case(design)
+    assert {r["field"] for r in corner.to_records()} == set(corner.values)
+    text = _parse(corner._repr_html_())
+    assert all(c.id in text for c in corner.budget.contributions)
+    assert "MEETS" in text  # either verdict line names the requirement

@@ -56,6 +56,17 @@ class Corner:
     design: Design
     spreads: tuple[Spread, ...]
 
+    def to_records(self) -> list[dict]:
+        """One flat row per spread figure (field, end, value_si); see :mod:`.tables`."""
+        from .tables import corner_records
+
+        return corner_records(self)
+
+    def _repr_html_(self) -> str:
+        from .tables import corner_html
+
+        return corner_html(self)
+
     def to_dict(self) -> dict:
         return {
             "corner": "worst case: every spread at its adverse end",

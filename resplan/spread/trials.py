@@ -146,6 +146,17 @@ class TrialResult:
             return None
         return self.interval[0] >= self.required_yield
 
+    def to_records(self) -> list[dict[str, Any]]:
+        """One flat row per driver (field, variance_share, reading); see :mod:`.tables`."""
+        from .tables import trial_records
+
+        return trial_records(self)
+
+    def _repr_html_(self) -> str:
+        from .tables import trial_html
+
+        return trial_html(self)
+
     def to_dict(self) -> dict[str, Any]:
         return {
             "trials": self.trials,
