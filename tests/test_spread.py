@@ -224,3 +224,18 @@ def test_exact_budget_needs_a_design_file():
     with pytest.raises(Exception, match="design"):
         exact_budget(bare, {"sensor.resistance": 1.0})
     assert np.isfinite(exact_budget(bare).total_rms_v)
+
+
+def test_headroom_is_judged_per_trial():
+    # The load cell's sensitivity spreads uniformly over 2 mV/V ± 0.1 %; with a
+    # headroom of 87.2 % the span may use 12.8 % of the 78.125 mV range, which the
+    # typical 10 mV uses exactly: a board meets when its sensitivity is at most
+    # 2 mV/V, half of a uniform spread centred there (uniform CDF, by hand).
+    d = _hive(
+        ('sensitivity = "2 mV/V"', 'sensitivity = { value = "2 mV/V", tolerance = "0.1 %" }'),
+        ('interference = "20 nV"', 'interference = "20 nV"\nheadroom = "87.2 %"'),
+    )
+    result = run_trials(build_model(d), 40_000, seed=2)
+    lo, hi = result.interval
+    assert lo <= 0.5 <= hi
+    assert "headroom" not in result.fixed_failures

@@ -135,7 +135,9 @@ class SpreadModel:
         The exact budget at the typical figures.
     fixed_failures : tuple of str
         Verdict items that fail at the typical figures and are not modelled per
-        trial (stated interferers, the ADC window edges): every trial fails them.
+        trial (stated interferers, the ADC window edges, pass-band flatness,
+        settling, channel rate): every trial fails them. Noise, the share of the
+        ADC range used and the headroom are judged per trial.
     deviation : float
         Largest relative deviation of the modelled total noise from exact budgets
         at the check trials.
@@ -284,7 +286,8 @@ def build_model(design: Design, *, checks: int = 6, seed: int = 0) -> SpreadMode
 
     budget = exact_budget(design)
     verdict = judge_design(design, budget)
-    fixed = tuple(i for i in verdict.failed_items if i not in ("noise", "input_window"))
+    per_trial = ("noise", "input_window", "headroom")
+    fixed = tuple(i for i in verdict.failed_items if i not in per_trial)
     if "input_window" in verdict.failed_items and not budget.adc_range_used > 1:
         fixed += ("input_window",)
     keys = tuple(c.id for c in budget.contributions)

@@ -7,9 +7,10 @@ every stream, so the chunk size never changes a number: the same seed gives the
 same trials on any machine.
 
 A trial meets when every verdict item passes (:mod:`resplan.chain.verdict`): the
-total noise against the noise allowed and the share of the ADC range used, both
-per trial; items that do not vary with the spreads (stated interferers, the
-window edges) are judged once at the typical figures.
+total noise against the noise allowed, and the share of the ADC range used
+against the range less any stated headroom, per trial; the other items (stated
+interferers, the window edges, pass-band flatness, settling, channel rate) are
+judged once at the typical figures.
 
 The yield's interval is Clopper and Pearson's exact binomial interval
 (C. J. Clopper, E. S. Pearson, Biometrika 26 (1934) 404), from the beta
@@ -241,6 +242,8 @@ def run_trials(
     worst_sigma = worst_bits = math.nan
     fixed_ok = not model.fixed_failures
     has_requirement = bool(np.isfinite(model.base[m + 2]))
+    headroom = getattr(budget.requirement, "headroom", 0.0) or 0.0
+    range_limit = 1.0 - headroom  # the headroom item, or the range itself when none
     done = 0
     while done < trials:
         n = min(chunk, trials - done)
@@ -256,7 +259,7 @@ def run_trials(
         span, gain, allowed, fsr = out[m], out[m + 1], out[m + 2], out[m + 3]
         bits = bits_all[done : done + n]
         np.log2(span / (k_pp * sigma), out=bits)
-        ok = ~range_exceeds(span * gain / fsr)
+        ok = ~range_exceeds(span * gain / fsr, range_limit)
         if has_requirement:
             ok &= ~noise_exceeds(sigma, allowed)
             margin = np.log2(allowed / sigma)
