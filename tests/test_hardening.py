@@ -413,13 +413,15 @@ def test_report_killed_outright_leaves_no_partial_after_the_next_run(tmp_path):
     [("a\\nb", "a\\nb"), ("a\\u0085b", "a\\x85b"), ("x\\u2028y", "x\\u2028y")],
 )
 def test_line_separators_in_names_stay_on_one_line(runner, tmp_path, name, escaped):
-    # Two parts of the same name: the problem quotes it.
+    # Two parts named with a line separator: each problem quotes the name, escaped.
     path = tmp_path / "d.toml"
     text = MINIMAL.replace('name = "delta-sigma ADC (invented)"', f'name = "{name}"')
     text = text.replace('type = "rc_filter"\n', f'type = "rc_filter"\nname = "{name}"\n')
     path.write_text(text)
     err = _clean_exit_2(runner.invoke(main, ["check", str(path)]), "adc.name")
-    assert len(err.splitlines()) == 1 and escaped in err
+    # Each label is refused on its own line (a label has no line breaks), escaped.
+    lines = err.splitlines()
+    assert len(lines) == 2 and all(escaped in line for line in lines)
 
 
 def test_line_separator_in_the_file_name_stays_on_one_line(runner, tmp_path):
@@ -592,3 +594,14 @@ def test_plan_of_a_hopeless_span_answers_at_once(runner, tmp_path):
     assert result.exit_code == 1 and result.stderr == ""
     assert "not enough alone" in result.stdout
     assert time.perf_counter() - start < 10.0
+
+
+@pytest.mark.parametrize("command", ["check", "report"])
+def test_a_label_with_a_line_break_is_refused(runner, tmp_path, command):
+    # Found by the campaign: a stage named "a\nb" drew a missing-glyph warning in the
+    # report's figures. Labels are one line: refused where read, escaped in the message.
+    path = tmp_path / "d.toml"
+    path.write_text(MINIMAL.replace('type = "rc_filter"\n', 'type = "rc_filter"\nname = "a\\nb"\n'))
+    args = [command, str(path)] + (["-o", str(tmp_path / "r.pdf")] if command == "report" else [])
+    err = _clean_exit_2(runner.invoke(main, args), "stages[0].name")
+    assert 'got "a\\nb"' in err and len(err.splitlines()) == 1

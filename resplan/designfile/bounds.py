@@ -23,6 +23,7 @@ from __future__ import annotations
 
 import errno
 import os
+import re
 import stat
 from collections.abc import Mapping
 from typing import Any
@@ -63,6 +64,9 @@ MAX_ROWS = 1000
 MAX_PROBLEMS = 100
 
 _CHUNK = 64 * 1024
+#: Keys whose text is a label shown in tables and figures: one line, no control characters.
+_LABELS = frozenset({"name", "title"})
+_CONTROL = re.compile("[\x00-\x1f\x7f-\x9f\u2028\u2029]")
 
 
 class DesignFileError(ResplanError, ValueError):
@@ -185,6 +189,16 @@ def check_bounds(data: Mapping[str, Any]) -> list[DesignError]:
         where, node = stack.pop()
         depth = len(where)
         if isinstance(node, str):
+            if where and where[-1] in _LABELS and _CONTROL.search(node):
+                problems.append(
+                    DesignError(
+                        _path(where),
+                        node,
+                        "a label on one line, without control characters or line breaks "
+                        "(it goes into tables and figures)",
+                    )
+                )
+                continue
             if len(node) > MAX_TEXT:
                 problems.append(
                     DesignError(
