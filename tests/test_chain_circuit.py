@@ -308,3 +308,61 @@ def test_transimpedance_needs_a_current_sensor():
     with pytest.raises(DesignError) as err:
         check_circuit(build_circuit(Sensor(1.0, 1.0), (tia,), T, T))
     assert err.value.field == "stages[0].type"
+
+
+# --- design files ---------------------------------------------------------------------
+
+
+def _pipeline_text(replace: dict[str, str]) -> str:
+    from resplan.designfile.examples import example_text
+
+    text = example_text("pipeline-vibration")  # an INVENTED example
+    for old, new in replace.items():
+        assert old in text
+        text = text.replace(old, new)
+    return text
+
+
+def test_design_file_active_filter_by_topology_and_sensor_fields():
+    from resplan.designfile.load import check_design, loads_design
+
+    text = _pipeline_text(
+        {
+            'noise_resistance = "4 kohm"\n': "",
+            "gain = 0.8\n": 'gain = 1\ntopology = "sallen-key"\ngbw = "20 MHz"\nin = "1 pA/√Hz"\n',
+            'resistance = "100 ohm"\n': 'resistance = "100 ohm"\ncapacitance = "1 nF"\n'
+            'dark_current = "1 nA"\n',
+        }
+    )
+    budget = check_design(loads_design(text))
+    ids = {c.id for c in budget.contributions}
+    assert {"stages[0].sections[1].opamp.en", "stages[0].sections[0].R1.thermal"} <= ids
+    assert "sensor.dark_current" in ids
+
+
+def test_design_file_inverting_stage():
+    from resplan.designfile.load import check_design, loads_design
+
+    text = _pipeline_text(
+        {
+            "[[stages]]\n": '[[stages]]\ntype = "inverting"\nname = "invented inverter"\n'
+            'rf = "10 kohm"\nrin = "10 kohm"\nen = "5 nV/√Hz"\nin = "1 pA/√Hz"\n'
+            'gbw = "10 MHz"\n\n[[stages]]\n',
+        }
+    )
+    budget = check_design(loads_design(text))
+    ids = {c.id for c in budget.contributions}
+    assert {"stages[0].opamp.en", "stages[0].Rin.thermal", "stages[0].RF.thermal"} <= ids
+
+
+def test_design_file_topology_needs_order_two():
+    from resplan.designfile.load import loads_design
+
+    text = _pipeline_text(
+        {"order = 4\n": "order = 1\n", "gain = 0.8\n": 'topology = "sallen-key"\n'}
+    )
+    from resplan.errors import DesignErrors
+
+    with pytest.raises(DesignErrors) as err:
+        loads_design(text)
+    assert "stages[0].order: got 1" in str(err.value)

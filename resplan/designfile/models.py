@@ -39,6 +39,7 @@ __all__ = [
     "AmplifierTable",
     "RCFilterTable",
     "ActiveFilterTable",
+    "InvertingTable",
     "STAGE_MODELS",
     "STAGE_TYPES",
     "ReferenceTable",
@@ -283,6 +284,20 @@ class SensorTable(_Table):
         "input window and in the largest input reference noise acts on.",
         "100 mV",
     )
+    capacitance: Quantity = _field(
+        "Capacitance across the output (a piezo element, a long cable): it shunts the next "
+        "stage's current noise and raises an inverting input's e_n noise gain.",
+        "1 nF",
+    )
+    dark_current: Quantity = _field(
+        "A DC current through the sensor whose shot noise 2qI is counted.", "1 nA"
+    )
+    differential: bool | None = _field(
+        "A balanced source: half the resistance in each leg, so each input's current noise "
+        "flows in its own half (the first stage must be an amplifier).",
+        False,
+        strict=True,
+    )
 
 
 class StageTable(_Table):
@@ -354,8 +369,38 @@ class ActiveFilterTable(StageTable):
     noise_resistance: Quantity = _field(
         "Equivalent input resistor standing for the filter's resistors (default 0).", "2 kohm"
     )
-    en: Quantity = _field("Op-amp voltage noise referred to the filter input.", "6 nV/√Hz")
+    en: Quantity = _field(
+        "Op-amp voltage noise: referred to the filter input without a topology; each "
+        "section's op-amp e_n with one.",
+        "6 nV/√Hz",
+    )
     en_corner: Quantity = _field("1/f corner of en (default 0 Hz).", "10 Hz")
+    topology: Literal["sallen-key", "multiple-feedback"] | None = _field(
+        "Build the filter as a circuit of this topology (orders 2–8, Butterworth or Bessel): "
+        "every resistor and op-amp source is then counted with its own transfer.",
+        "sallen-key",
+    )
+    in_: Quantity = _field(
+        "With a topology: each op amp's input current noise.", "0.5 pA/√Hz", alias="in"
+    )
+    in_corner: Quantity = _field("1/f corner of the current noise (default 0 Hz).", "50 Hz")
+    gbw: Quantity = _field("With a topology: each op amp's gain-bandwidth product.", "10 MHz")
+    capacitor: Quantity = _field(
+        "With a topology: the capacitor the section values start from (default 10 nF).", "10 nF"
+    )
+
+
+class InvertingTable(StageTable):
+    """An op-amp inverting gain stage, gain −rf/rin (its magnitude is counted)."""
+
+    type: Literal["inverting"] = Field(description="Stage type.")
+    rf: Quantity = _field("Feedback resistor.", "10 kohm")
+    rin: Quantity = _field("Input resistor (it loads what drives it).", "1 kohm")
+    en: Quantity = _field("Input voltage noise density, white part.", "4.5 nV/√Hz")
+    en_corner: Quantity = _field("1/f corner of en (default 0 Hz).", "5 Hz")
+    in_: Quantity = _field("Current noise of the inverting input.", "0.5 pA/√Hz", alias="in")
+    in_corner: Quantity = _field("1/f corner of the current noise (default 0 Hz).", "50 Hz")
+    gbw: Quantity = _field("Gain-bandwidth product.", "10 MHz")
 
 
 STAGE_MODELS: dict[str, type[StageTable]] = {
@@ -363,12 +408,13 @@ STAGE_MODELS: dict[str, type[StageTable]] = {
     "amplifier": AmplifierTable,
     "rc_filter": RCFilterTable,
     "active_filter": ActiveFilterTable,
+    "inverting": InvertingTable,
 }
 #: The stage types a design file knows.
 STAGE_TYPES = tuple(STAGE_MODELS)
 
 Stage = Annotated[
-    NonInvertingTable | AmplifierTable | RCFilterTable | ActiveFilterTable,
+    NonInvertingTable | AmplifierTable | RCFilterTable | ActiveFilterTable | InvertingTable,
     Field(discriminator="type"),
 ]
 

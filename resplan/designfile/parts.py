@@ -39,6 +39,7 @@ from ..chain.requirement import DEFAULT_COVERAGE, Requirement
 from ..chain.stages import (
     ActiveFilter,
     IntegratedAmplifier,
+    InvertingStage,
     NoiseDensity,
     NonInvertingStage,
     RCFilter,
@@ -57,6 +58,7 @@ from ..units.ranges import (
 from .models import (
     ActiveFilterTable,
     AmplifierTable,
+    InvertingTable,
     NonInvertingTable,
     RCFilterTable,
     RequirementTable,
@@ -463,7 +465,11 @@ def read_sensor(r: TableReader, t: SensorTable, span: float | None) -> Sensor | 
         )
     temperature = r.q(t.temperature, "temperature", f"{p}.temperature", minimum="> 0")
     offset = r.q(t.offset, "voltage", f"{p}.offset", default=0.0)
-    if span is None or resistance is None or offset is None:
+    capacitance = r.q(t.capacitance, "capacitance", f"{p}.capacitance", minimum="> 0")
+    dark = r.q(t.dark_current, "current", f"{p}.dark_current", minimum="≥ 0", default=0.0)
+    if span is None or resistance is None or offset is None or dark is None:
+        return None
+    if t.capacitance is not None and capacitance is None:
         return None
     if (t.noise_density is not None and noise is None) or (
         t.temperature is not None and temperature is None
@@ -479,6 +485,9 @@ def read_sensor(r: TableReader, t: SensorTable, span: float | None) -> Sensor | 
         temperature_k=temperature,
         name=t.name or "sensor",
         offset_v=offset,
+        capacitance_f=capacitance,
+        dark_current_a=dark,
+        differential=bool(t.differential),
     )
 
 
@@ -491,7 +500,27 @@ def read_stage(r: TableReader, i: int, t: StageTable) -> Any:
         return _amplifier(r, p, name, t)
     if isinstance(t, RCFilterTable):
         return _rc_filter(r, p, name, t)
+    if isinstance(t, InvertingTable):
+        return _inverting(r, p, name, t)
     return _active_filter(r, p, name, t)
+
+
+def _inverting(r: TableReader, p: str, name: str, t: InvertingTable) -> Any:
+    if t.open:
+        r.bad(f"{p}.open", True, "a given inverting stage (the planner sizes amplifier stages)")
+        return None
+    rf = r.q(t.rf, "resistance", f"{p}.rf", required=True, minimum="> 0")
+    rin = r.q(t.rin, "resistance", f"{p}.rin", required=True, minimum="> 0")
+    gbw = r.q(t.gbw, "frequency", f"{p}.gbw", minimum="> 0")
+    en = r.density(t.en, t.en_corner, p, "en", "en_corner", required=True)
+    i_minus = NoiseDensity(0.0)
+    if t.in_ is not None or t.in_corner is not None:
+        i_minus = r.density(
+            t.in_, t.in_corner, p, "in", "in_corner", "current_density", required=True
+        )
+    if None in (rf, rin, en, i_minus) or (t.gbw is not None and gbw is None):
+        return None
+    return r.build(p, InvertingStage, name, rf, rin, en, i_minus, gbw)
 
 
 def _noninverting(r: TableReader, p: str, name: str, t: NonInvertingTable) -> Any:
@@ -632,4 +661,30 @@ def _active_filter(r: TableReader, p: str, name: str, t: ActiveFilterTable) -> A
         r.notes.append(f"{name}: no op-amp noise (en) given, none counted")
     if None in (t.response, t.order, cutoff, gain, nr):
         return None
-    return r.build(p, ActiveFilter, name, t.response, t.order, cutoff, gain, nr, en)
+    if t.topology is None:
+        r.refuse(t, p, ("in_", "in_corner", "gbw", "capacitor"), "given only with a topology")
+        return r.build(p, ActiveFilter, name, t.response, t.order, cutoff, gain, nr, en)
+    gbw = r.q(t.gbw, "frequency", f"{p}.gbw", minimum="> 0")
+    cap = r.q(t.capacitor, "capacitance", f"{p}.capacitor", minimum="> 0", default=10e-9)
+    i_n = None
+    if t.in_ is not None or t.in_corner is not None:
+        i_n = r.density(t.in_, t.in_corner, p, "in", "in_corner", "current_density", required=True)
+        if i_n is None:
+            return None
+    if cap is None or (t.gbw is not None and gbw is None):
+        return None
+    return r.build(
+        p,
+        ActiveFilter,
+        name,
+        t.response,
+        t.order,
+        cutoff,
+        gain,
+        nr,
+        en,
+        t.topology,
+        i_n,
+        gbw,
+        cap,
+    )
