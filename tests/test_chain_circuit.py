@@ -366,3 +366,18 @@ def test_design_file_topology_needs_order_two():
     with pytest.raises(DesignErrors) as err:
         loads_design(text)
     assert "stages[0].order: got 1" in str(err.value)
+
+
+def test_differential_rc_before_an_in_amp_is_kt_over_c_across():
+    # Balanced source → R/2 in each leg → C across → in-amp: the differential voltage on
+    # C holds kT/C (equipartition, Nyquist 1928; k from scipy.constants).
+    amp = IntegratedAmplifier("invented in-amp", 1.0, NoiseDensity(0.0), bandwidth_hz=1e9)
+    chain = Chain(
+        Sensor(0.1, 2e3, differential=True),
+        (RCFilter("invented RC", 2e3, 1e-9), amp),
+        _adc(),
+        temperature_k=T,
+    )
+    total, got = _analog_rms(chain)
+    assert {"stages[0].R+.thermal", "stages[0].R-.thermal"} <= got.keys()
+    assert total == pytest.approx(math.sqrt(constants.k * T / 1e-9), rel=1e-4)

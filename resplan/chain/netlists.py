@@ -543,8 +543,9 @@ def _stage_parts(
             return parts, (out,), False, (), names
         outs = (f"n{i + 1}+", f"n{i + 1}-")
         parts = [
-            Resistor(f"{p}.R+", nodes_in[0], outs[0], stage.resistance_ohm),
-            Resistor(f"{p}.R-", nodes_in[1], outs[1], stage.resistance_ohm),
+            # The design file's resistance is the sum of both legs' resistors.
+            Resistor(f"{p}.R+", nodes_in[0], outs[0], stage.resistance_ohm / 2),
+            Resistor(f"{p}.R-", nodes_in[1], outs[1], stage.resistance_ohm / 2),
             Capacitor(f"{p}.C", outs[0], outs[1], stage.capacitance_f),
         ]
         names[f"{p}.R+.thermal"] = ("thermal noise of R (+ leg)", "thermal")

@@ -35,6 +35,14 @@ FORMULAS: tuple[tuple[str, str, str], ...] = (
         "Motchenbacher and Connelly, ch. 1–2",
     ),
     (
+        "The front end solved as one circuit",
+        "(G + sC)·x = b per frequency; all transfers to the ADC input from one adjoint solve "
+        "(G + sC)ᵀ·y = e_out; σ_j² = ∫ S_j(f)·|H_j(f)|²·|H_d(f)|² df for each source j",
+        "C.-W. Ho, A. E. Ruehli, P. A. Brennan, IEEE Trans. Circuits Syst. CAS-22, 504 (1975); "
+        "R. Rohrer, L. Nagel, R. Meyer, L. Weber, IEEE J. Solid-State Circuits SC-6, 204 "
+        "(1971); the noise-source method of Motchenbacher and Connelly, ch. 2",
+    ),
+    (
         "Non-inverting stage, referred to its input",
         "e² = e_n² + (i_n+·R_s)² + (i_n−·RF‖RG)² + 4kT·(RF‖RG)",
         "Motchenbacher and Connelly, ch. 2",
