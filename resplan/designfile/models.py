@@ -12,7 +12,7 @@ carries a description and an example, which feed the JSON Schema
 Examples
 --------
 >>> sorted(STAGE_TYPES)
-['active_filter', 'amplifier', 'noninverting', 'rc_filter']
+['active_filter', 'amplifier', 'inverting', 'noninverting', 'rc_filter']
 >>> design_schema()["properties"]["sensor"]["$ref"]
 '#/$defs/SensorTable'
 """
