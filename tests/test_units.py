@@ -514,3 +514,22 @@ def test_garbage_only_raises_design_error_elsewhere(value):
         assert isinstance(same_dimension(value, "kg"), bool)
     except DesignError:
         pass
+
+
+@pytest.mark.parametrize(
+    ("text", "expected"),
+    [
+        # strain is a length ratio, 1 µε = 1e-6 m/m (SI Brochure 9th ed., 5.4.7:
+        # ratios of like quantities are dimensionless; the trade's spellings of the
+        # micro-strain are common practice, no source)
+        ("100 microstrain", 100e-6),
+        ("100 ue", 100e-6),
+        ("0.5 strain", 0.5),
+        ("3 ppm", 3e-6),
+        ("5 ppb", 5e-9),
+    ],
+)
+def test_strain_and_trade_ratios_are_read(text, expected):
+    from resplan.units.parse import parse_quantity
+
+    assert parse_quantity(text, "dimensionless", "x") == pytest.approx(expected, rel=1e-12)

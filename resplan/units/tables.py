@@ -223,6 +223,10 @@ _RATIOS: dict[str, Fraction] = {
     "percent": Fraction(1, 100),
     "ppm": Fraction(1, 10**6),
     "ppb": Fraction(1, 10**9),
+    # strain, a length ratio: 1 µε = 1e-6 (the trade's spellings; common practice, no source)
+    "strain": Fraction(1),
+    "microstrain": Fraction(1, 10**6),
+    "ue": Fraction(1, 10**6),
 }
 
 # Units with an offset: (size of one degree in K, SI value of 0 degrees).
