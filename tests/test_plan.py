@@ -353,3 +353,13 @@ def test_plan_to_dict_is_plain():
     text = json.dumps(plan_design(_design()).to_dict(), allow_nan=True)
     data = json.loads(text)
     assert {"feasible", "allocations", "requirements", "levers", "assumptions"} <= set(data)
+
+
+def test_a_misspelt_weight_key_gets_a_suggestion():
+    # Same "did you mean" as other keys (difflib.get_close_matches, Python stdlib).
+    from resplan.designfile.examples import load_example
+    from resplan.errors import DesignErrors
+    from resplan.plan.allocation import plan_design
+
+    with pytest.raises(DesignErrors, match='did you mean "front end"'):
+        plan_design(load_example("kickoff-bridge"), {"frnt end": 1.0})

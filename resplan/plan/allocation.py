@@ -19,6 +19,7 @@ which parts, by how much, and the value of each lever that would make it feasibl
 
 from __future__ import annotations
 
+import difflib
 import math
 from dataclasses import dataclass, field, replace
 from typing import Any
@@ -180,12 +181,15 @@ def _weights(slots: list[Slot], design: Design, override: dict[str, float] | Non
     for name, w in {**design.weights, **(override or {})}.items():
         key = places.get(name, name)
         if key not in names:
+            close = difflib.get_close_matches(str(name), [*names, *places], n=1, cutoff=0.6)
+            hint = f'; did you mean "{close[0]}"?' if close else ""
             errors.append(
                 DesignError(
                     f"weights.{name}",
                     w,
                     "the name or place of an open part: "
-                    + (", ".join(names) if names else "(none open)"),
+                    + (", ".join(names) if names else "(none open)")
+                    + hint,
                 )
             )
         elif not (math.isfinite(w) and w >= 0):
