@@ -524,6 +524,8 @@ def test_garbage_only_raises_design_error_elsewhere(value):
         # micro-strain are common practice, no source)
         ("100 microstrain", 100e-6),
         ("100 ue", 100e-6),
+        ("100 \u00b5\u03b5", 100e-6),  # µε, micro sign U+00B5
+        ("100 \u03bc\u03b5", 100e-6),  # με, Greek mu U+03BC
         ("0.5 strain", 0.5),
         ("3 ppm", 3e-6),
         ("5 ppb", 5e-9),
@@ -533,3 +535,20 @@ def test_strain_and_trade_ratios_are_read(text, expected):
     from resplan.units.parse import parse_quantity
 
     assert parse_quantity(text, "dimensionless", "x") == pytest.approx(expected, rel=1e-12)
+
+
+@pytest.mark.parametrize("spelling", ["\u00b5\u03b5", "\u03bc\u03b5"])
+@pytest.mark.parametrize("fast", [True, False])
+def test_micro_strain_symbol_equals_microstrain(spelling, fast):
+    # 1 µε = 1e-6 (a length ratio; SI Brochure 9th ed., 5.4.7 for ratios of
+    # like quantities; the symbol µε is common practice, no source). Both the
+    # fast table and pint's definitions must read it.
+    from resplan.units.parse import _set_fast_path, parse_quantity
+
+    previous = _set_fast_path(fast)
+    try:
+        value = parse_quantity(f"250 {spelling}", "dimensionless", "x")
+        assert value == parse_quantity("250 microstrain", "dimensionless", "x")
+        assert value == pytest.approx(250e-6, rel=1e-12)
+    finally:
+        _set_fast_path(previous)

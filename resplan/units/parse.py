@@ -290,7 +290,7 @@ _TOKENS = re.compile(
   | (?P<sup>[⁻⁺]?[⁰¹²³⁴⁵⁶⁷⁸⁹]+|½)
   | (?P<sqrt>√|(?:sqrt|rt)(?=\s*\())
   | (?P<one>1(?=\s*/))
-  | (?P<name>°[CF]|%|[A-Za-zµμΩ_]+)(?P<digits>\d+(?![\d.]))?
+  | (?P<name>°[CF]|%|[A-Za-zµμεΩ_]+)(?P<digits>\d+(?![\d.]))?
     """,
     re.VERBOSE,
 )

@@ -227,6 +227,8 @@ _RATIOS: dict[str, Fraction] = {
     "strain": Fraction(1),
     "microstrain": Fraction(1, 10**6),
     "ue": Fraction(1, 10**6),
+    "\u00b5\u03b5": Fraction(1, 10**6),  # µε with the micro sign
+    "\u03bc\u03b5": Fraction(1, 10**6),  # με with the Greek mu
 }
 
 # Units with an offset: (size of one degree in K, SI value of 0 degrees).
