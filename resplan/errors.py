@@ -182,3 +182,25 @@ class ChainError(DesignError):
     For example a noise bandwidth that nothing limits, or ADC noise quoted at a
     data rate the chain does not run at.
     """
+
+
+def describe_file_kind(mode: int) -> str:
+    """What a path that is not a regular file is, from its ``st_mode``, for a message.
+
+    Examples
+    --------
+    >>> import stat
+    >>> describe_file_kind(stat.S_IFIFO)
+    'a FIFO (named pipe)'
+    """
+    import stat
+
+    if stat.S_ISDIR(mode):
+        return "a folder"
+    if stat.S_ISFIFO(mode):
+        return "a FIFO (named pipe)"
+    if stat.S_ISCHR(mode) or stat.S_ISBLK(mode):
+        return "a device"
+    if stat.S_ISSOCK(mode):
+        return "a socket"
+    return "not a regular file"

@@ -38,6 +38,7 @@ if TYPE_CHECKING:  # pragma: no cover
     from .verdict import Verdict
 
 __all__ = [
+    "resolution_rows",
     "RECORD_FIELDS",
     "budget_records",
     "budget_html",
@@ -165,6 +166,40 @@ def verdict_html(budget: Budget, judged: Verdict) -> str:
     )
 
 
+
+def resolution_rows(budget: Budget, name_db: bool = False) -> list[list[str]]:
+    """The resolution table of a budget: a header row, then one row per figure.
+
+    Columns: the figure, over the sensor span, over the ADC range. With ``name_db``
+    the last row says which dB figure each column holds (dynamic range, SNR).
+    """
+    span_db, adc_db = format_db(budget.dynamic_range_db), format_db(budget.snr_db)
+    if name_db:
+        span_db, adc_db = f"{span_db} (dynamic range)", f"{adc_db} (SNR)"
+    return [
+        [
+            "",
+            f"over the sensor span ({format_si(budget.span_v, 'V')})",
+            f"over the ADC range ({format_si(budget.adc_full_scale_v, 'V')})",
+        ],
+        [
+            "effective resolution",
+            format_bits(budget.effective_bits),
+            format_bits(budget.effective_bits_adc_range),
+        ],
+        [
+            "noise-free resolution",
+            format_bits(budget.noise_free_bits),
+            format_bits(budget.noise_free_bits_adc_range),
+        ],
+        [
+            "noise-free counts",
+            format_counts(budget.noise_free_counts),
+            format_counts(budget.noise_free_counts_adc_range),
+        ],
+        ["dynamic range / SNR", span_db, adc_db],
+    ]
+
 def budget_html(budget: Budget, judged: Verdict | None = None) -> str:
     """The budget as HTML: conditions, contributions (with ids), resolution, verdict.
 
@@ -214,33 +249,8 @@ def budget_html(budget: Budget, judged: Verdict | None = None) -> str:
         ],
     )
     resolution = html_table(
-        [
-            "",
-            f"over the sensor span ({format_si(budget.span_v, 'V')})",
-            f"over the ADC range ({format_si(budget.adc_full_scale_v, 'V')})",
-        ],
-        [
-            [
-                "effective resolution",
-                format_bits(budget.effective_bits),
-                format_bits(budget.effective_bits_adc_range),
-            ],
-            [
-                "noise-free resolution",
-                format_bits(budget.noise_free_bits),
-                format_bits(budget.noise_free_bits_adc_range),
-            ],
-            [
-                "noise-free counts",
-                format_counts(budget.noise_free_counts),
-                format_counts(budget.noise_free_counts_adc_range),
-            ],
-            [
-                "dynamic range / SNR",
-                format_db(budget.dynamic_range_db),
-                format_db(budget.snr_db),
-            ],
-        ],
+        resolution_rows(budget)[0],
+        resolution_rows(budget)[1:],
         right=(1, 2),
         caption=f"Resolution; ADC range used {format_percent(budget.adc_range_used)}",
     )

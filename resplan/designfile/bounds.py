@@ -28,7 +28,7 @@ import stat
 from collections.abc import Mapping
 from typing import Any
 
-from ..errors import DesignError, ResplanError, escaped
+from ..errors import DesignError, ResplanError, describe_file_kind, escaped
 
 __all__ = [
     "MAX_FILE_BYTES",
@@ -97,16 +97,6 @@ def capped(problems: list[DesignError], source: str | None = None) -> list[Desig
     return [*unique[:MAX_PROBLEMS], MoreProblems("design", rest, "", source)]
 
 
-def _kind(mode: int) -> str:
-    if stat.S_ISDIR(mode):
-        return "a folder"
-    if stat.S_ISFIFO(mode):
-        return "a FIFO (named pipe)"
-    if stat.S_ISCHR(mode) or stat.S_ISBLK(mode):
-        return "a device"
-    if stat.S_ISSOCK(mode):
-        return "a socket"
-    return "not a regular file"
 
 
 def read_bounded(path: str | os.PathLike, source: str | None = None) -> bytes:
@@ -136,7 +126,7 @@ def read_bounded(path: str | os.PathLike, source: str | None = None) -> bytes:
     try:
         info = os.fstat(fd)
         if not stat.S_ISREG(info.st_mode):
-            kind = _kind(info.st_mode)
+            kind = describe_file_kind(info.st_mode)
             raise DesignFileError(f"{source}: is {kind}, expected a design file (a regular file)")
         if info.st_size > MAX_FILE_BYTES:
             raise DesignFileError(

@@ -32,7 +32,7 @@ import time
 from collections.abc import Iterator
 from pathlib import Path
 
-from ..errors import DesignError
+from ..errors import DesignError, describe_file_kind
 
 __all__ = [
     "atomic_path",
@@ -59,16 +59,6 @@ def _umask() -> int:
     return mask
 
 
-def _kind(mode: int) -> str:
-    if stat.S_ISDIR(mode):
-        return "a folder"
-    if stat.S_ISFIFO(mode):
-        return "a FIFO (named pipe)"
-    if stat.S_ISCHR(mode) or stat.S_ISBLK(mode):
-        return "a device"
-    if stat.S_ISSOCK(mode):
-        return "a socket"
-    return "not a regular file"
 
 
 def check_output_target(path: str | os.PathLike, field: str = "output") -> Path:
@@ -91,9 +81,8 @@ def check_output_target(path: str | os.PathLike, field: str = "output") -> Path:
             field, str(target), f"a path that can be written ({err.strerror})"
         ) from None
     if info is not None and not stat.S_ISREG(info.st_mode):
-        raise DesignError(
-            field, str(target), f"a regular file or a new path (this is {_kind(info.st_mode)})"
-        )
+        kind = describe_file_kind(info.st_mode)
+        raise DesignError(field, str(target), f"a regular file or a new path (this is {kind})")
     folder = target.parent
     if not folder.is_dir():
         raise DesignError(field, str(target), "a path in an existing folder")

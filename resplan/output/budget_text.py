@@ -24,6 +24,7 @@ from typing import Any
 
 from ..chain.budget import Budget
 from ..chain.design import Design
+from ..chain.tables import resolution_rows
 from ..chain.verdict import Verdict, judge_design
 from ..units.formatting import (
     ascii_units,
@@ -235,31 +236,7 @@ def format_budget(
     lines.append("")
 
     lines.append("Resolution")
-    span_head = f"over the sensor span ({format_si(budget.span_v, 'V')})"
-    adc_head = f"over the ADC range ({format_si(budget.adc_full_scale_v, 'V')})"
-    res = [
-        ["", span_head, adc_head],
-        [
-            "effective resolution",
-            format_bits(budget.effective_bits),
-            format_bits(budget.effective_bits_adc_range),
-        ],
-        [
-            "noise-free resolution",
-            format_bits(budget.noise_free_bits),
-            format_bits(budget.noise_free_bits_adc_range),
-        ],
-        [
-            "noise-free counts",
-            format_counts(budget.noise_free_counts),
-            format_counts(budget.noise_free_counts_adc_range),
-        ],
-        [
-            "dynamic range / SNR",
-            format_db(budget.dynamic_range_db) + " (dynamic range)",
-            format_db(budget.snr_db) + " (SNR)",
-        ],
-    ]
+    res = resolution_rows(budget, name_db=True)
     lines += _table(res, set())
     lines.append(f"  ADC range used by the sensor span: {format_percent(budget.adc_range_used)}")
     lines.append(
