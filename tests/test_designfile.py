@@ -680,3 +680,27 @@ def test_a_line_separator_in_a_key_stays_on_one_line():
     lines = str(info.value).splitlines()
     assert all(line.startswith("m.toml: ") for line in lines)
     assert any("\\x85" in line for line in lines)
+
+
+@pytest.mark.parametrize(
+    ("name", "formula"),
+    [
+        # FSR = V_ref unipolar, 2·V_ref for ±V_ref, divided by the gain (DOMAIN §5);
+        # a factor or a gain of 1 is left out of the line. 2 × 5 V / 128 = 78.125 mV,
+        # 2 × 4.096 V = 8.192 V (arithmetic).
+        ("soil-temperature", "ADC range = V_ref = 2.50 V peak-to-peak"),
+        ("pipeline-vibration", "ADC range = 2·V_ref = 2 × 4.10 V = 8.19 V peak-to-peak"),
+        ("hive-scale", "ADC range = 2·V_ref / gain = 2 × 5.00 V / 128 = 78.1 mV peak-to-peak"),
+    ],
+)
+def test_range_formula_shows_only_the_terms_that_apply(name, formula):
+    notes = [n for n in loads_design(example_text(name), "d.toml").notes if "ADC range" in n]
+    assert len(notes) == 1 and notes[0].startswith(formula)
+    assert " / 1 " not in notes[0] and "1 ×" not in notes[0]
+
+
+def test_range_formula_unipolar_with_gain():
+    # FSR = V_ref / gain (DOMAIN §5): 5 V / 128 = 39.0625 mV
+    text = edit(HIVE, 'input_range = "bipolar"', 'input_range = "unipolar"')
+    notes = [n for n in loads_design(text, "d.toml").notes if "ADC range" in n]
+    assert notes[0].startswith("ADC range = V_ref / gain = 5.00 V / 128 = 39.1 mV")

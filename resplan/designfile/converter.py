@@ -247,6 +247,30 @@ def _polarity(r: TableReader, t: AdcTable) -> str | None:
     return t.polarity or implied
 
 
+def _range_formula(factor: float, v_ref: float, gain: float) -> str:
+    """The ADC range formula with only the terms that apply.
+
+    A factor or a gain of 1 is left out: ``"ADC range = V_ref = 2.50 V"``,
+    ``"ADC range = 2·V_ref / gain = 2 × 5.00 V / 128 = 78.1 mV"``.
+
+    Examples
+    --------
+    >>> _range_formula(1.0, 2.5, 1.0)
+    'ADC range = V_ref = 2.50 V'
+    >>> _range_formula(2.0, 5.0, 128.0)
+    'ADC range = 2·V_ref / gain = 2 × 5.00 V / 128 = 78.1 mV'
+    """
+    symbols = "V_ref" if factor == 1 else f"{factor:.0f}·V_ref"
+    figures = format_si(v_ref, "V") if factor == 1 else f"{factor:.0f} × {format_si(v_ref, 'V')}"
+    if gain != 1:
+        symbols += " / gain"
+        figures += f" / {format_si(gain, '')}"
+    result = format_si(factor * v_ref / gain, "V")
+    if factor == 1 and gain == 1:
+        return f"ADC range = {symbols} = {result}"
+    return f"ADC range = {symbols} = {figures} = {result}"
+
+
 def _full_scale(
     r: TableReader,
     t: AdcTable,
@@ -265,7 +289,8 @@ def _full_scale(
             return None
         if gain != 1:
             r.notes.append(
-                f"ADC range = full_scale_range / gain = {t.full_scale_range} / {gain:g} = "
+                f"ADC range = full_scale_range / gain = {t.full_scale_range} / "
+                f"{format_si(gain, '')} = "
                 f"{format_si(fsr / gain, 'V')} peak-to-peak"
             )
         return fsr / gain
@@ -282,11 +307,9 @@ def _full_scale(
         if gain is None:
             return None
         factor = 1.0 if t.input_range == "unipolar" else 2.0
-        what = "V_ref" if factor == 1 else "2·V_ref"
         swing = "0 … V_ref" if factor == 1 else "±V_ref"
         r.notes.append(
-            f"ADC range = {what} / gain = {factor:g} × {format_si(v_ref, 'V')} / {gain:g} = "
-            f"{format_si(factor * v_ref / gain, 'V')} peak-to-peak ({t.input_range} input, {swing})"
+            f"{_range_formula(factor, v_ref, gain)} peak-to-peak ({t.input_range} input, {swing})"
         )
         return factor * v_ref / gain
     if need:
