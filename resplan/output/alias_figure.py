@@ -17,7 +17,7 @@ import math
 from typing import TYPE_CHECKING, Any
 
 from ..units.formatting import format_si, format_tick
-from .figures import _STYLE, _WIDTH_IN, OKABE_ITO, _set_caption, _title
+from .figure_style import GREY, OKABE_ITO, STYLE, WIDTH_IN, legend, set_caption, title
 
 if TYPE_CHECKING:  # pragma: no cover
     from matplotlib.figure import Figure
@@ -57,12 +57,12 @@ def alias_figure(design: Design, budget: Budget) -> Figure | None:
     f = np.geomspace(low, top, 1500)
     analog, digital = path_power_gain(chain, f)
 
-    with matplotlib.rc_context(_STYLE):
+    with matplotlib.rc_context(STYLE):
         height = 4.2
-        fig = Figure(figsize=(_WIDTH_IN, height))
+        fig = Figure(figsize=(WIDTH_IN, height))
         FigureCanvasAgg(fig)
         ax = fig.add_axes(
-            (0.72 / _WIDTH_IN, 1.75 / height, (_WIDTH_IN - 0.95) / _WIDTH_IN, 2.1 / height)
+            (0.72 / WIDTH_IN, 1.75 / height, (WIDTH_IN - 0.95) / WIDTH_IN, 2.1 / height)
         )
         floor = -160.0
         ax.semilogx(
@@ -78,10 +78,10 @@ def alias_figure(design: Design, budget: Budget) -> Figure | None:
             linestyle=":",
             label="digital filter",
         )
-        ax.axvline(fs / 2, color="#6b6b6b", linewidth=0.7, linestyle="--")
-        ax.axvline(fs, color="#6b6b6b", linewidth=0.7, linestyle="-.")
-        ax.text(fs / 2, 3, " f_s/2", fontsize=6, color="#6b6b6b", ha="right", va="bottom")
-        ax.text(fs, 3, " f_s", fontsize=6, color="#6b6b6b", ha="left", va="bottom")
+        ax.axvline(fs / 2, color=GREY, linewidth=0.7, linestyle="--")
+        ax.axvline(fs, color=GREY, linewidth=0.7, linestyle="-.")
+        ax.text(fs / 2, 3, " f_s/2", fontsize=6, color=GREY, ha="right", va="bottom")
+        ax.text(fs, 3, " f_s", fontsize=6, color=GREY, ha="left", va="bottom")
         for k, (r, c) in enumerate(tones[:12]):
             colour = (
                 OKABE_ITO["vermillion"] if not r.within_allowance else OKABE_ITO["bluish green"]
@@ -101,10 +101,10 @@ def alias_figure(design: Design, budget: Budget) -> Figure | None:
         ax.set_xlabel("frequency")
         ax.xaxis.set_major_locator(LogLocator(base=10, numticks=12))
         ax.xaxis.set_major_formatter(FuncFormatter(hz_tick))
-        ax.legend(loc="lower left")
+        legend(ax, loc="lower left")
 
         bx = fig.add_axes(
-            (0.72 / _WIDTH_IN, 0.35 / height, (_WIDTH_IN - 0.95) / _WIDTH_IN, 0.9 / height)
+            (0.72 / WIDTH_IN, 0.35 / height, (WIDTH_IN - 0.95) / WIDTH_IN, 0.9 / height)
         )
         names = [r.name[:28] for r in residues]
         y = np.arange(len(residues))
@@ -118,9 +118,9 @@ def alias_figure(design: Design, budget: Budget) -> Figure | None:
         bx.set_yticks(y, names)
         bx.xaxis.set_major_formatter(FuncFormatter(lambda v, _p=None: format_tick(v, "V")))
         bx.xaxis.set_minor_formatter(NullFormatter())
-        bx.legend(loc="lower right", fontsize=6)
+        legend(bx, loc="lower right", fontsize=6)
         bx.set_xlabel("V rms at the sensor")
-        _title(fig, ALIAS_TITLE)
+        title(fig, ALIAS_TITLE)
     worst = max(residues, key=lambda r: r.residue_v / r.allowed_v if r.allowed_v else math.inf)
     text = "; ".join(
         f"{r.name}: lands {r.lands}, leaves {format_si(r.residue_v, 'V')} rms against "
@@ -128,7 +128,7 @@ def alias_figure(design: Design, budget: Budget) -> Figure | None:
         f"({'within' if r.within_allowance else 'EXCEEDS'})"
         for r in residues
     )
-    _set_caption(
+    set_caption(
         fig,
         "Analog and digital responses of the chain (top) with each stated interferer (▼ at its "
         "frequency, the arrow to where it lands after sampling at "

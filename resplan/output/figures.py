@@ -28,6 +28,23 @@ from ..chain.budget import Budget
 from ..errors import DesignError
 from ..units.formatting import format_bits, format_percent, format_si, format_tick
 from .atomic import write_bytes_atomic
+from .figure_style import (
+    DASHES,
+    GREY,
+    KIND_COLOURS,
+    LIGHT,
+    LINE_COLOURS,
+    OKABE_ITO,
+    STYLE,
+    WIDTH_IN,
+    bar_axes,
+    caption,
+    legend,
+    legend_height_in,
+    new_axes,
+    set_caption,
+    title,
+)
 
 if TYPE_CHECKING:  # pragma: no cover
     from matplotlib.figure import Figure
@@ -46,46 +63,6 @@ __all__ = [
     "caption",
 ]
 
-#: The Okabe–Ito colour-blind-safe palette (Okabe & Ito 2008), by its published names.
-OKABE_ITO: dict[str, str] = {
-    "black": "#000000",
-    "orange": "#E69F00",
-    "sky blue": "#56B4E9",
-    "bluish green": "#009E73",
-    "yellow": "#F0E442",
-    "blue": "#0072B2",
-    "vermillion": "#D55E00",
-    "reddish purple": "#CC79A7",
-}
-# Line colours in order of use; yellow last, it is faint on white.
-_LINE_COLOURS = tuple(
-    OKABE_ITO[n]
-    for n in (
-        "blue",
-        "vermillion",
-        "bluish green",
-        "reddish purple",
-        "orange",
-        "sky blue",
-        "yellow",
-    )
-)
-_DASHES = ("-", "--", "-.", ":", (0, (5, 1, 1, 1, 1, 1)), (0, (1, 1)), (0, (8, 2)))
-_GREY = "#6b6b6b"
-_LIGHT = "#d9d9d9"
-
-#: Colour of each kind of contribution in bar charts.
-KIND_COLOURS: dict[str, str] = {
-    "thermal": OKABE_ITO["orange"],
-    "sensor": OKABE_ITO["yellow"],
-    "voltage": OKABE_ITO["blue"],
-    "current": OKABE_ITO["sky blue"],
-    "reference": OKABE_ITO["reddish purple"],
-    "adc": OKABE_ITO["bluish green"],
-    "quantisation": OKABE_ITO["vermillion"],
-    "jitter": "#000000",
-}
-
 #: Figures :func:`make_figures` can make, by name, with their titles.
 FIGURE_TITLES: dict[str, str] = {
     "noise_density": "Noise density of each contributor, referred to the sensor",
@@ -100,40 +77,6 @@ DEFAULT_DPI = 200
 #: Contributors drawn individually; the rest are drawn as one line or bar.
 _MAX_LINES = 7
 _MAX_BARS = 12
-#: Width of a figure, inches: the text width of an A4 or Letter page with 20 mm margins.
-_WIDTH_IN = 6.5
-
-_STYLE = {
-    "font.family": "DejaVu Sans",
-    "font.size": 7.5,
-    "axes.titlesize": 8.5,
-    "axes.titleweight": "bold",
-    "axes.titlelocation": "left",
-    "axes.labelsize": 7.5,
-    "axes.edgecolor": _GREY,
-    "axes.linewidth": 0.6,
-    "axes.spines.top": False,
-    "axes.spines.right": False,
-    "axes.grid": True,
-    "axes.axisbelow": True,
-    "grid.color": _LIGHT,
-    "grid.linewidth": 0.5,
-    "grid.linestyle": "-",
-    "xtick.color": _GREY,
-    "ytick.color": _GREY,
-    "xtick.labelcolor": "black",
-    "ytick.labelcolor": "black",
-    "xtick.labelsize": 6.5,
-    "ytick.labelsize": 6.5,
-    "xtick.major.width": 0.6,
-    "ytick.major.width": 0.6,
-    "legend.fontsize": 6.3,
-    "legend.frameon": False,
-    "lines.linewidth": 1.2,
-    "svg.hashsalt": "resplan",
-    "svg.fonttype": "path",
-}
-
 # Engineering prefixes for axis scales.
 _PREFIXES = ((1e-15, "f"), (1e-12, "p"), (1e-9, "n"), (1e-6, "µ"), (1e-3, "m"), (1.0, ""))
 
@@ -147,50 +90,6 @@ def _scale_for(value: float) -> tuple[float, str]:
         if value >= factor:
             chosen = (factor, prefix)
     return chosen
-
-
-def _new_axes(
-    height_in: float,
-    *,
-    left: float = 0.72,
-    right: float = 0.2,
-    bottom: float = 0.48,
-    top: float = 0.32,
-):
-    """A figure with one axes placed by fixed margins (inches).
-
-    Fixed margins instead of an automatic layout engine: the figures have a known
-    shape, and a layout engine measures every tick label on every save, which
-    costs more than drawing the figure.
-    """
-    from matplotlib.backends.backend_agg import FigureCanvasAgg
-    from matplotlib.figure import Figure
-
-    fig = Figure(figsize=(_WIDTH_IN, height_in))
-    FigureCanvasAgg(fig)
-    ax = fig.add_axes(
-        (
-            left / _WIDTH_IN,
-            bottom / height_in,
-            (_WIDTH_IN - left - right) / _WIDTH_IN,
-            (height_in - bottom - top) / height_in,
-        )
-    )
-    return fig, ax
-
-
-def _title(fig: Figure, text: str) -> None:
-    """The title at the top left of the figure, clear of axes and legends."""
-    height = fig.get_size_inches()[1]
-    fig.text(
-        0.08 / _WIDTH_IN,
-        1 - 0.08 / height,
-        text,
-        ha="left",
-        va="top",
-        fontsize=_STYLE["axes.titlesize"],
-        fontweight="bold",
-    )
 
 
 def _rate_label(x: float, _pos=None) -> str:
@@ -228,45 +127,12 @@ def _swept_rate_axis(ax, ticks: Sequence[float]) -> None:
     ax.xaxis.set_minor_locator(NullLocator())
 
 
-def _text_width_in(fig: Figure, labels: Sequence[str], size_pt: float) -> float:
-    """Width of the widest label, inches."""
-    from matplotlib.font_manager import FontProperties
-
-    renderer = fig.canvas.get_renderer()
-    prop = FontProperties(family=_STYLE["font.family"], size=size_pt)
-    widths = [renderer.get_text_width_height_descent(t, prop, ismath=False)[0] for t in labels]
-    return max(widths, default=0.0) / fig.dpi
-
-
 def _same_rate(a: float, b: float) -> bool:
     return math.isclose(a, b, rel_tol=1e-9)
 
 
-def _set_caption(fig: Figure, text: str) -> None:
-    fig.resplan_caption = text  # type: ignore[attr-defined]
-
-
-def caption(fig: Figure) -> str:
-    """The caption :func:`make_figures` wrote for a figure ("" if none)."""
-    return getattr(fig, "resplan_caption", "")
-
-
 def _label(c: Any) -> str:
     return f"{c.name} ({c.stage})"
-
-
-#: Longest legend label before it is shortened, characters.
-_LEGEND_CHARS = 50
-
-
-def _legend_label(c: Any, *, quoted: bool = False) -> str:
-    """The contributor's label, shortened to fit a legend column; the quoted mark is kept."""
-    text = _label(c)
-    suffix = " · quoted rms" if quoted else ""
-    room = _LEGEND_CHARS - len(suffix)
-    if len(text) > room:
-        text = text[: room - 1] + "…"
-    return text + suffix
 
 
 def _density_figure(chain, budget: Budget, spectra) -> Figure:
@@ -275,28 +141,33 @@ def _density_figure(chain, budget: Budget, spectra) -> Figure:
     f = spectra.centres_hz
     shown = spectra.contributors[:_MAX_LINES]
     rest = spectra.contributors[_MAX_LINES:]
-    entries = (
-        len(shown) + (1 if rest else 0) + 1 + (2 if spectra.digital_power_gain is not None else 1)
-    )
-    legend_in = 0.14 * math.ceil(entries / 2) + 0.1
+    names = [_label(c) + (" · quoted rms" if c.quoted else "") for c in shown]
+    entries = [
+        *names,
+        *([f"{len(rest)} smaller sources together"] if rest else []),
+        "total",
+        "analog path, dB (right axis)",
+        *(["digital filter, dB (right axis)"] if spectra.digital_power_gain is not None else []),
+    ]
+    legend_in = legend_height_in(entries, ncols=2) + 0.1
     height = 3.3 + legend_in
-    fig, ax = _new_axes(height, right=0.62, bottom=0.48 + legend_in, top=0.42)
+    fig, ax = new_axes(height, right=0.62, bottom=0.48 + legend_in, top=0.42)
     top = float(np.max(spectra.total_density_v_per_rthz))
-    for i, c in enumerate(shown):
+    for i, (c, name) in enumerate(zip(shown, names, strict=True)):
         ax.loglog(
             f,
             np.where(c.density_v_per_rthz > 0, c.density_v_per_rthz, np.nan),
-            color=_LINE_COLOURS[i % len(_LINE_COLOURS)],
-            linestyle=_DASHES[i % len(_DASHES)],
+            color=LINE_COLOURS[i % len(LINE_COLOURS)],
+            linestyle=DASHES[i % len(DASHES)],
             linewidth=1.0,
-            label=_legend_label(c, quoted=c.quoted),
+            label=name,
         )
     if rest:
         power = sum(c.bin_power_v2 for c in rest)
         ax.loglog(
             f,
             np.sqrt(power / spectra.widths_hz),
-            color=_GREY,
+            color=GREY,
             linewidth=0.8,
             label=f"{len(rest)} smaller sources together",
         )
@@ -316,7 +187,7 @@ def _density_figure(chain, budget: Budget, spectra) -> Figure:
     ax.xaxis.set_major_formatter(_rate_label)
     ax.set_ylabel("noise density at the sensor (V/√Hz)")
     if spectra.quoted_top_hz < 0.9 * spectra.f_top_hz:
-        ax.axvline(spectra.quoted_top_hz, color=_GREY, linewidth=0.6, linestyle=(0, (2, 2)))
+        ax.axvline(spectra.quoted_top_hz, color=GREY, linewidth=0.6, linestyle=(0, (2, 2)))
         ax.annotate(
             "½ converter output rate",
             (spectra.quoted_top_hz, 1.0),
@@ -325,7 +196,7 @@ def _density_figure(chain, budget: Budget, spectra) -> Figure:
             textcoords="offset points",
             ha="right",
             fontsize=6.3,
-            color=_GREY,
+            color=GREY,
         )
 
     right = ax.twinx()
@@ -335,7 +206,7 @@ def _density_figure(chain, budget: Budget, spectra) -> Figure:
         right.semilogx(
             f,
             10 * np.log10(spectra.analog_power_gain),
-            color=_GREY,
+            color=GREY,
             linewidth=0.8,
             linestyle=(0, (6, 2)),
             label="analog path, dB (right axis)",
@@ -344,7 +215,7 @@ def _density_figure(chain, budget: Budget, spectra) -> Figure:
             right.semilogx(
                 f,
                 10 * np.log10(spectra.digital_power_gain),
-                color=_GREY,
+                color=GREY,
                 linewidth=0.8,
                 linestyle=(0, (1, 1.5)),
                 label="digital filter, dB (right axis)",
@@ -354,17 +225,18 @@ def _density_figure(chain, budget: Budget, spectra) -> Figure:
     right.set_ylabel("filter response (dB)")
     handles, labels = ax.get_legend_handles_labels()
     h2, l2 = right.get_legend_handles_labels()
-    fig.legend(
+    legend(
+        fig,
         handles + h2,
         labels + l2,
         loc="lower left",
-        bbox_to_anchor=(0.3 / _WIDTH_IN, 0.04 / height),
+        bbox_to_anchor=(0.3 / WIDTH_IN, 0.04 / height),
         ncols=2,
         handlelength=3.0,
         columnspacing=1.5,
     )
-    _title(fig, FIGURE_TITLES["noise_density"])
-    _set_caption(
+    title(fig, FIGURE_TITLES["noise_density"])
+    set_caption(
         fig,
         "Each contributor's density referred to the sensor through the analog responses "
         "after its entry point and the digital filter, as the power mean over logarithmic "
@@ -381,7 +253,7 @@ def _density_figure(chain, budget: Budget, spectra) -> Figure:
 def _cumulative_figure(budget: Budget, cumulative, spectra) -> Figure:
     import numpy as np
 
-    fig, ax = _new_axes(3.1, top=0.42)
+    fig, ax = new_axes(3.1, top=0.42)
     scale, prefix = _scale_for(max(cumulative.total_rms_v, float(np.max(cumulative.rms_v))))
     f = np.concatenate([[spectra.edges_hz[0]], cumulative.frequencies_hz])
     y = np.concatenate([[0.0], cumulative.rms_v]) / scale
@@ -421,29 +293,10 @@ def _cumulative_figure(budget: Budget, cumulative, spectra) -> Figure:
     ax.set_xlabel("frequency")
     ax.xaxis.set_major_formatter(_rate_label)
     ax.set_ylabel(f"rms noise at the sensor ({prefix}V)")
-    ax.legend(loc="lower right")
-    _title(fig, FIGURE_TITLES["cumulative_noise"])
-    _set_caption(fig, "RMS of the noise below each frequency. " + cumulative.caption)
+    legend(ax, loc="lower right")
+    title(fig, FIGURE_TITLES["cumulative_noise"])
+    set_caption(fig, "RMS of the noise below each frequency. " + cumulative.caption)
     return fig
-
-
-def _bar_axes(labels: Sequence[str], right_in: float):
-    """A figure for one horizontal bar per label, its left margin fitted to the labels.
-
-    Returns the figure, its axes and the bar positions, first label on top.
-    """
-    height = 1.0 + 0.22 * len(labels)
-    fig, ax = _new_axes(height, bottom=0.45)
-    left = _text_width_in(fig, labels, _STYLE["ytick.labelsize"]) + 0.15
-    ax.set_position(
-        (
-            left / _WIDTH_IN,
-            0.45 / height,
-            (_WIDTH_IN - left - right_in) / _WIDTH_IN,
-            (height - 0.92) / height,
-        )
-    )
-    return fig, ax, list(range(len(labels)))[::-1]
 
 
 def _contributions_figure(budget: Budget) -> Figure:
@@ -452,16 +305,16 @@ def _contributions_figure(budget: Budget) -> Figure:
     rest = items[_MAX_BARS:]
     labels = [_label(c) for c in shown]
     shares = [100 * c.share for c in shown]
-    colours = [KIND_COLOURS.get(c.kind, _GREY) for c in shown]
+    colours = [KIND_COLOURS.get(c.kind, GREY) for c in shown]
     texts = [f"{format_percent(c.share)}  ·  {format_si(c.rms_v, 'V')} rms" for c in shown]
     if rest:
         share = sum(c.share for c in rest)
         labels.append(f"{len(rest)} smaller sources")
         shares.append(100 * share)
-        colours.append(_LIGHT)
+        colours.append(LIGHT)
         texts.append(format_percent(share))
-    fig, ax, y = _bar_axes(labels, right_in=0.1)
-    ax.barh(y, shares, color=colours, edgecolor=_GREY, linewidth=0.4, height=0.65)
+    fig, ax, y = bar_axes(labels, right_in=0.1)
+    ax.barh(y, shares, color=colours, edgecolor=GREY, linewidth=0.4, height=0.65)
     ax.set_yticks(y, labels)
     ax.set_xlim(0, 118)
     ax.grid(axis="y", visible=False)
@@ -481,8 +334,9 @@ def _contributions_figure(budget: Budget) -> Figure:
     kinds = sorted({c.kind for c in shown}, key=list(KIND_COLOURS).index)
     from matplotlib.patches import Patch
 
-    ax.legend(
-        [Patch(facecolor=KIND_COLOURS[k], edgecolor=_GREY, linewidth=0.4) for k in kinds],
+    legend(
+        ax,
+        [Patch(facecolor=KIND_COLOURS[k], edgecolor=GREY, linewidth=0.4, label=k) for k in kinds],
         kinds,
         loc="lower right",
         bbox_to_anchor=(1.0, 1.0),
@@ -491,8 +345,8 @@ def _contributions_figure(budget: Budget) -> Figure:
         columnspacing=1.0,
         borderaxespad=0.2,
     )
-    _title(fig, FIGURE_TITLES["contributions"])
-    _set_caption(
+    title(fig, FIGURE_TITLES["contributions"])
+    set_caption(
         fig,
         "Share of the total noise power, largest first, with each contribution's rms "
         "referred to the sensor. Uncorrelated sources add in power.",
@@ -518,7 +372,7 @@ def _resolution_figure(budget: Budget, sweep) -> Figure:
 
     from .spectra import SWEEP_DATA_RATE
 
-    fig, ax = _new_axes(3.3, top=0.42)
+    fig, ax = new_axes(3.3, top=0.42)
     colour = OKABE_ITO["blue"]
     rates = sweep.output_rates_hz
     bits = sweep.noise_free_bits
@@ -577,7 +431,7 @@ def _resolution_figure(budget: Budget, sweep) -> Figure:
             ha="center",
             va="top" if below else "bottom",
             fontsize=5.8,
-            color=_GREY,
+            color=GREY,
         )
     ax.plot(
         [budget.output_rate_hz],
@@ -610,7 +464,7 @@ def _resolution_figure(budget: Budget, sweep) -> Figure:
         _swept_rate_axis(ax, labelled)
         top = sweep.band_top_hz
         if top is not None and low < 2 * top < high:
-            ax.axvspan(low, 2 * top, color=_LIGHT, alpha=0.45, linewidth=0, zorder=0.5)
+            ax.axvspan(low, 2 * top, color=LIGHT, alpha=0.45, linewidth=0, zorder=0.5)
             ax.annotate(
                 "2 × signal band top",
                 (2 * top, 0.0),
@@ -620,14 +474,14 @@ def _resolution_figure(budget: Budget, sweep) -> Figure:
                 ha="right",
                 va="bottom",
                 fontsize=6.3,
-                color=_GREY,
+                color=GREY,
             )
     ax.margins(y=0.2)
     ax.set_xlabel("output data rate")
     ax.set_ylabel("noise-free resolution over the span (bits)")
-    ax.legend(loc="best")
-    _title(fig, FIGURE_TITLES["resolution_vs_rate"])
-    _set_caption(fig, _resolution_caption(sweep))
+    legend(ax, loc="best")
+    title(fig, FIGURE_TITLES["resolution_vs_rate"])
+    set_caption(fig, _resolution_caption(sweep))
     return fig
 
 
@@ -680,7 +534,7 @@ def _resolution_caption(sweep) -> str:
 def _allocation_figure(plan) -> Figure | None:
     fixed = tuple(getattr(plan, "fixed", ()) or ())
     allocations = tuple(getattr(plan, "allocations", ()) or ())
-    rows = [(f"{_label(c)} — fixed", c.rms_v, _GREY) for c in fixed if c.rms_v > 0]
+    rows = [(f"{_label(c)} — fixed", c.rms_v, GREY) for c in fixed if c.rms_v > 0]
     rows += [
         (f"{a.part} — allocated", a.rms_v, OKABE_ITO["blue"]) for a in allocations if a.rms_v > 0
     ]
@@ -689,9 +543,9 @@ def _allocation_figure(plan) -> Figure | None:
     rows = rows[: _MAX_BARS + 4]
     scale, prefix = _scale_for(max(r[1] for r in rows))
     labels = [r[0] for r in rows]
-    fig, ax, y = _bar_axes(labels, right_in=0.2)
+    fig, ax, y = bar_axes(labels, right_in=0.2)
     ax.barh(
-        y, [r[1] / scale for r in rows], color=[r[2] for r in rows], height=0.65, edgecolor=_GREY
+        y, [r[1] / scale for r in rows], color=[r[2] for r in rows], height=0.65, edgecolor=GREY
     )
     ax.set_yticks(y, [r[0] for r in rows])
     ax.grid(axis="y", visible=False)
@@ -704,10 +558,10 @@ def _allocation_figure(plan) -> Figure | None:
             linewidth=1.0,
             label="allowed noise in total: " + format_si(allowed, "V") + " rms",
         )
-        ax.legend(loc="lower right")
+        legend(ax, loc="lower right")
     ax.set_xlabel(f"rms noise at the sensor ({prefix}V)")
-    _title(fig, FIGURE_TITLES["allocation"])
-    _set_caption(
+    title(fig, FIGURE_TITLES["allocation"])
+    set_caption(
         fig,
         "Noise fixed by given parts and the rms allocated to each open part, referred to "
         "the sensor. They add in power, not linearly, to the allowed total.",
@@ -752,7 +606,7 @@ def make_figures(
     from .spectra import cumulative_noise, noise_spectra, resolution_sweep
 
     figs: dict[str, Figure] = {}
-    with matplotlib.rc_context(_STYLE):
+    with matplotlib.rc_context(STYLE):
         if budget is not None:
             chain = design.chain()
             spectra = noise_spectra(chain, budget)
@@ -782,7 +636,7 @@ def figure_png(fig: Figure, dpi: int = DEFAULT_DPI) -> bytes:
     import matplotlib
 
     buffer = io.BytesIO()
-    with matplotlib.rc_context(_STYLE):
+    with matplotlib.rc_context(STYLE):
         fig.savefig(buffer, format="png", dpi=dpi, metadata={"Software": None})
     return buffer.getvalue()
 
@@ -797,7 +651,7 @@ def figure_svg(fig: Figure, *, text_as_paths: bool = True) -> bytes:
     import matplotlib
 
     buffer = io.BytesIO()
-    style = {**_STYLE, "svg.fonttype": "path" if text_as_paths else "none"}
+    style = {**STYLE, "svg.fonttype": "path" if text_as_paths else "none"}
     with matplotlib.rc_context(style):
         fig.savefig(buffer, format="svg", metadata={"Date": None})
     return buffer.getvalue()

@@ -1,6 +1,6 @@
 """Figures of a Monte Carlo run: the histogram of noise-free bits and the drivers chart.
 
-Drawn in the house style of :mod:`resplan.output.figures` (same fonts, margins,
+Drawn in the house style of :mod:`resplan.output.figure_style` (same fonts, margins,
 Okabe–Ito colours, fixed-margin layout, captions); matplotlib is imported only
 when a figure is drawn.
 """
@@ -10,7 +10,7 @@ from __future__ import annotations
 from typing import TYPE_CHECKING
 
 from ..units.formatting import format_bits, format_percent
-from .figures import OKABE_ITO, _bar_axes, _new_axes, _set_caption, _title
+from .figure_style import GREY, OKABE_ITO, STYLE, bar_axes, new_axes, set_caption, title
 
 if TYPE_CHECKING:  # pragma: no cover
     from matplotlib.figure import Figure
@@ -24,12 +24,11 @@ SPREAD_FIGURE_TITLES: dict[str, str] = {
     "yield_histogram": "Noise-free resolution across sampled boards",
     "yield_drivers": "What drives the spread of the total noise power",
 }
-_GREY = "#6b6b6b"
 
 
 def _histogram(result: TrialResult) -> Figure:
     edges, counts = result.histogram
-    fig, ax = _new_axes(2.3)
+    fig, ax = new_axes(2.3)
     widths = [b - a for a, b in zip(edges[:-1], edges[1:], strict=True)]
     total = max(result.trials, 1)
     ax.bar(
@@ -53,12 +52,12 @@ def _histogram(result: TrialResult) -> Figure:
             fontsize=6.3,
             color=OKABE_ITO["vermillion"],
         )
-    ax.axvline(result.typical_bits, color=_GREY, linewidth=0.8, linestyle="--")
+    ax.axvline(result.typical_bits, color=GREY, linewidth=0.8, linestyle="--")
     ax.set_xlabel("noise-free resolution over the sensor span (bits)")
     ax.set_ylabel("boards (%)")
-    _title(fig, SPREAD_FIGURE_TITLES["yield_histogram"])
+    title(fig, SPREAD_FIGURE_TITLES["yield_histogram"])
     lo, hi = result.interval
-    _set_caption(
+    set_caption(
         fig,
         f"{result.trials:,} sampled boards (seed {result.seed}); solid line: the requirement, "
         f"dashed: the typical design. Yield {format_percent(result.yield_fraction, 4)}, 95 % "
@@ -73,8 +72,8 @@ def _drivers(result: TrialResult) -> Figure | None:
         return None
     labels = [d.field for d in drivers]
     shares = [100.0 * d.share for d in drivers]
-    fig, ax, y = _bar_axes(labels, right_in=0.1)
-    ax.barh(y, shares, color=OKABE_ITO["bluish green"], edgecolor=_GREY, linewidth=0.4, height=0.6)
+    fig, ax, y = bar_axes(labels, right_in=0.1)
+    ax.barh(y, shares, color=OKABE_ITO["bluish green"], edgecolor=GREY, linewidth=0.4, height=0.6)
     ax.set_yticks(y, labels)
     ax.set_xlim(0, 118)
     ax.grid(axis="y", visible=False)
@@ -88,8 +87,8 @@ def _drivers(result: TrialResult) -> Figure | None:
             fontsize=6.3,
         )
     ax.set_xlabel("first-order share of the variance of the total noise power (%)")
-    _title(fig, SPREAD_FIGURE_TITLES["yield_drivers"])
-    _set_caption(
+    title(fig, SPREAD_FIGURE_TITLES["yield_drivers"])
+    set_caption(
         fig,
         "Each spread's share of the variance of the total noise power, Var(E[P | figure]) / "
         "Var(P), largest first; the shares of independent figures acting on separate "
@@ -102,10 +101,8 @@ def spread_figures(result: TrialResult) -> dict[str, Figure]:
     """The histogram and, when any figure spreads, the drivers chart of a run."""
     import matplotlib
 
-    from .figures import _STYLE
-
     figs: dict[str, Figure] = {}
-    with matplotlib.rc_context(_STYLE):
+    with matplotlib.rc_context(STYLE):
         figs["yield_histogram"] = _histogram(result)
         drivers = _drivers(result)
         if drivers is not None:
