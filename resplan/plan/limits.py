@@ -18,7 +18,7 @@ from ..chain.stages import ActiveFilter, IntegratedAmplifier, NoiseDensity, NonI
 from ..noise.bandwidth import noise_bandwidth
 from ..noise.physics import BOLTZMANN_J_PER_K, enob_from_sinad, noise_rms_to_snr
 from ..noise.responses import AnalogLowpass
-from ..units.formatting import format_si
+from ..units.formatting import format_percent, format_si
 from .provisional import Slot, signal_band_top
 
 __all__ = [
@@ -382,6 +382,104 @@ def _reference_rows(slot: Slot, var: float, chain: Chain, design: Design, band, 
     return rows, {"noise": NoiseDensity(density, fc)}
 
 
+def _converter_bandwidth_hz(chain: Chain, post: float, grid_points: int) -> float | None:
+    """Noise bandwidth of the converter's own output (its decimator), Hz; None if not modelled.
+
+    The same bandwidths as :meth:`Chain.post_variance_factor`: the whole digital
+    path's over the post factor is the converter's own.
+    """
+    if chain.digital is None:
+        return None
+    f_low = chain.output_rate_hz * 1e-6
+    full = noise_bandwidth(
+        (), chain.digital, f_low, folded_source=True, grid_points=grid_points
+    ).white_hz
+    return (full + f_low) / post
+
+
+def _delta_sigma_rows(
+    slot: Slot, at_rate: float, post: float, chain: Chain, design: Design, grid_points: int
+) -> list[PartRequirement]:
+    """A delta-sigma converter's limits in the forms its data sheet quotes.
+
+    Noise referred to its input in V rms and V p-p at the chain's data rate and
+    gain, the equivalent density over the decimator's noise bandwidth, and the
+    effective and noise-free resolution at that rate; never LSB or a full-scale-sine
+    SNR, which such data sheets do not quote per data rate.
+    """
+    part = slot.part
+    adc = chain.adc
+    rate = adc.output_rate_hz
+    req = design.requirement
+    k_pp = req.k_pp
+    fsr = adc.full_scale_range_v
+    at = f"at {format_si(rate, 'Hz')} data rate, gain {adc.gain:g}"
+    after = (
+        "" if post == 1 else f"; before the post-filter, which divides its power by {1 / post:.4g}"
+    )
+    rows = [
+        PartRequirement(
+            part.name,
+            part.field_path,
+            f"input-referred noise {at}",
+            at_rate,
+            "V",
+            "max",
+            f"rms, quantisation included{after}",
+            "σ_ADC = σ_share · G_total / √(post factor)",
+        ),
+        PartRequirement(
+            part.name,
+            part.field_path,
+            f"input-referred noise peak-to-peak {at}",
+            k_pp * at_rate,
+            "V",
+            "max",
+            f"k_pp = {k_pp:.3g} × rms, {format_percent(req.coverage, 4)} coverage of "
+            "Gaussian noise",
+            "σ_pp = k_pp · σ_ADC, k_pp = 2√2·erf⁻¹(P) (JCGM 100:2008)",
+        ),
+    ]
+    own_hz = _converter_bandwidth_hz(chain, post, grid_points)
+    if own_hz is not None and own_hz > 0:
+        rows.append(
+            PartRequirement(
+                part.name,
+                part.field_path,
+                f"equivalent input noise density {at}",
+                at_rate / math.sqrt(own_hz),
+                "V/√Hz",
+                "max",
+                f"white, over the decimator's noise bandwidth {format_si(own_hz, 'Hz')}",
+                "e = σ_ADC / √ENBW_decimator",
+            )
+        )
+    if at_rate > 0:
+        rows += [
+            PartRequirement(
+                part.name,
+                part.field_path,
+                f"effective resolution {at}",
+                math.log2(fsr / at_rate),
+                "bits",
+                "min",
+                f"of the full-scale range {_v(fsr)} p-p, rms noise",
+                "log2(FSR / σ_ADC)",
+            ),
+            PartRequirement(
+                part.name,
+                part.field_path,
+                f"noise-free resolution {at}",
+                math.log2(fsr / (k_pp * at_rate)),
+                "bits",
+                "min",
+                f"of the full-scale range {_v(fsr)} p-p, peak-to-peak noise at k_pp = {k_pp:.3g}",
+                "log2(FSR / (k_pp · σ_ADC))",
+            ),
+        ]
+    return rows
+
+
 def _adc_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_points):
     part = slot.part
     adc = chain.adc
@@ -389,6 +487,9 @@ def _adc_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_p
     at_input = math.sqrt(var) * chain.total_gain
     at_rate = at_input / math.sqrt(post)
     rate = adc.output_rate_hz
+    if adc.architecture == "delta-sigma":
+        rows = _delta_sigma_rows(slot, at_rate, post, chain, design, grid_points)
+        return rows, {"noise": NoiseAtRate(at_rate, rate)}
     snr = float(noise_rms_to_snr(at_rate, adc.full_scale_range_v)) if at_rate > 0 else math.inf
     after = (
         "" if post == 1 else f" (before the post-filter, which divides its power by {1 / post:.4g})"

@@ -22,7 +22,14 @@ from .limits import PartRequirement
 if TYPE_CHECKING:  # pragma: no cover
     from .allocation import Plan
 
-__all__ = ["format_limit", "plan_verdict", "plan_records", "plan_html", "RECORD_KINDS"]
+__all__ = [
+    "format_limit",
+    "amplitude_suffix",
+    "plan_verdict",
+    "plan_records",
+    "plan_html",
+    "RECORD_KINDS",
+]
 
 #: What :func:`plan_records` can list.
 RECORD_KINDS = ("requirements", "allocations", "fixed")
@@ -52,9 +59,20 @@ def format_limit(row: PartRequirement) -> str:
         text = f"{value:.0f}" if float(value).is_integer() else f"{value:.3g}"
     else:
         text = format_si(value, unit)
-    if unit in ("V",) and "rms" not in row.quantity:
-        text += " rms"
-    return bound + text
+    return bound + text + amplitude_suffix(row)
+
+
+def amplitude_suffix(row: PartRequirement) -> str:
+    """ " rms" or " p-p" after a voltage limit ("" when the quantity already says so).
+
+    Examples
+    --------
+    >>> amplitude_suffix(PartRequirement("ADC", "adc", "noise peak-to-peak", 1e-6, "V", "max"))
+    ' p-p'
+    """
+    if row.unit != "V" or "rms" in row.quantity:
+        return ""
+    return " p-p" if "peak-to-peak" in row.quantity else " rms"
 
 
 def plan_verdict(plan: Plan) -> str:

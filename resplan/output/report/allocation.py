@@ -5,6 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from ...chain.design import Design
+from ...plan.tables import amplitude_suffix
 from ...units.formatting import format_percent, format_si
 from .style import SECTION_TITLES
 from .writer import Writer, rms
@@ -78,7 +79,7 @@ def allocation_section(w: Writer, design: Design, plan: Any, plan_note: str) -> 
         rows = [["Part", "Quantity", "Limit", "Condition", "Formula"]]
         for r in requirements:
             bound = _BOUND_WORDS.get(getattr(r, "bound", ""), getattr(r, "bound", ""))
-            value = format_si(r.value, r.unit) if r.value is not None else "—"
+            value = format_si(r.value, r.unit) + amplitude_suffix(r) if r.value is not None else "—"
             rows.append(
                 [
                     f"{r.part} ({r.field_path})",
