@@ -250,10 +250,18 @@ def test_limits_are_datasheet_figures():
     rows = {(r.part, r.quantity.split(" (")[0]): r for r in plan.requirements}
     en = rows[("front end", "white voltage noise e_n")]
     assert en.unit == "V/√Hz" and en.bound == "max" and 0 < en.value < 1e-6
-    snr = rows[("converter", "SNR, full-scale sine")]
-    enob = rows[("converter", "ENOB")]
-    # IEEE Std 1241: ENOB = (SNR − 1.76)/6.02.
-    assert enob.value == pytest.approx((snr.value - 1.76) / 6.02, abs=0.01)
+    # The converter is delta-sigma: noise at the data rate in V rms and V p-p, the
+    # effective resolution in bits; no SNR, ENOB or LSB (see test_plan_delta_sigma.py).
+    adc = {r.quantity.split(" at ")[0]: r for r in plan.requirements if r.part == "converter"}
+    assert not {"SNR, full-scale sine", "ENOB", "transition noise"} & set(adc)
+    sigma = adc["input-referred noise"]
+    assert sigma.unit == "V" and sigma.bound == "max"
+    # k_pp = 2√2·erf⁻¹(P) (JCGM 100:2008 coverage of a normal distribution; scipy erfinv).
+    k_pp = 2 * math.sqrt(2) * float(erfinv(plan.coverage))
+    assert adc["input-referred noise peak-to-peak"].value == pytest.approx(k_pp * sigma.value)
+    fsr = 5.0  # the converter's full-scale range in _design
+    assert adc["effective resolution"].value == pytest.approx(math.log2(fsr / sigma.value))
+    # An open SAR keeps SNR, ENOB and transition noise: test_plan_delta_sigma.py.
     ppm = rows[("reference", "noise relative to V_ref")]
     vrms = rows[("reference", "noise in the chain's band")]
     assert ppm.value == pytest.approx(vrms.value / 2.5 * 1e6)

@@ -33,7 +33,7 @@ def _sar_variant(tmp_path):
     """The kickoff design with an invented open 18-bit SAR at 1 kHz, 100 samples averaged."""
     text = example_text("kickoff-bridge")
     text = text.replace('architecture = "delta-sigma"', 'architecture = "sar"')
-    text = text.replace('bits = 24', 'bits = 18')
+    text = text.replace("bits = 24", "bits = 18")
     text = text.replace('sample_rate = "256 kHz"\ndata_rate = "10 Hz"', 'sample_rate = "1 kHz"')
     text = text.replace('decimation = "sinc3"', "average = 100")
     assert 'architecture = "sar"' in text and "average = 100" in text
@@ -126,5 +126,10 @@ def test_open_sar_keeps_transition_noise_snr_and_enob(tmp_path):
     sigma = rows[0]["value"]
     q = 5.0 / 2**18
     assert lsb["value"] == pytest.approx(math.sqrt(sigma**2 - q**2 / 12) / q, rel=1e-9)
+    # IEEE Std 1241: ENOB = (SNR − 1.76)/6.02; SNR = 20·log10((FSR/2√2)/σ).
+    snr = next(r for r in rows if r["quantity"] == "SNR, full-scale sine")
+    assert snr["value"] == pytest.approx(20 * math.log10(5.0 / (2 * math.sqrt(2)) / sigma))
+    enob = next(r for r in rows if r["quantity"] == "ENOB")
+    assert enob["value"] == pytest.approx((snr["value"] - 1.76) / 6.02, abs=0.01)
     text = CliRunner().invoke(main, ["plan", str(_sar_variant(tmp_path))]).stdout
     assert re.search(r"ADC +transition noise +≤ [\d.]+ LSB", text)
