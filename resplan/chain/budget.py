@@ -336,6 +336,14 @@ class Budget:
 
     @property
     def meets_requirement(self) -> bool | None:
+        """Whether the budget's own items pass: total noise within the allowed noise and
+        the sensor inside the ADC input window (None without a requirement).
+
+        A budget knows nothing of the design's interferers, pass-band flatness,
+        headroom or timing requirements: the whole verdict of a design is
+        :func:`resplan.chain.verdict.judge_design`, which ``resplan check`` and its
+        JSON ``meets_requirement`` read.
+        """
         if self.requirement is None:
             return None
         return (not self.overloaded) and self.total_rms_v <= self.allowed_rms_v * (1 + 1e-12)
