@@ -85,9 +85,10 @@ def test_delta_sigma_limits_are_rms_and_pp_at_the_data_rate_json(kickoff):
 
 
 def test_delta_sigma_density_uses_the_sinc3_noise_bandwidth(kickoff):
-    # A sinc³ decimator to ODR has noise bandwidth ODR·∫₀^∞ sinc⁶(x) dx·... ; numerically
-    # ∫_{-∞}^{∞} (sin πx/πx)⁶ dx = 11/20 (a standard integral), so one-sided
-    # ENBW = 0.55·ODR/2 = 2.75 Hz at 10 Hz. Checked here with scipy.integrate.quad.
+    # A sinc³ decimator to ODR has |H(f)|² = sinc⁶(f/ODR), so its one-sided noise
+    # bandwidth is ODR·∫₀^∞ sinc⁶(x) dx = ODR·11/40, since ∫_{-∞}^{∞} sinc⁶ = 11/20
+    # (a standard integral, from memory): 2.75 Hz at 10 Hz. The integral is
+    # checked here with scipy.integrate.quad rather than taken on trust.
     integral, _ = integrate.quad(lambda x: 2.0 * special.sinc(x) ** 6, 0.0, 200.0, limit=2000)
     assert integral == pytest.approx(11 / 20, rel=1e-4)
     enbw = integral * 10.0 / 2.0
