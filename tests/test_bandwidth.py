@@ -306,6 +306,6 @@ def test_digital_path_checks_its_rates():
     with pytest.raises(DesignError) as info:
         DigitalPath((SincFilter(3, 64, 64e3), SincFilter(1, 4, 2e3)))
     assert info.value.field == "digital_filter[1].input_rate"
-    assert "1000 Hz" in str(info.value)
+    assert "1.00 kHz" in str(info.value)
     with pytest.raises(DesignError):
         DigitalPath(())

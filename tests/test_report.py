@@ -178,7 +178,7 @@ def test_assumptions_and_cautions_are_stated(a4_report):
     _, _, _, text, _ = a4_report
     for phrase in (
         "Interference is not noise",
-        "quoted at 10 Hz data rate",
+        "quoted at 10.0 Hz data rate",
         "IEC 61010-1",
         "IEC 60601-1",
         "IEC 60079",

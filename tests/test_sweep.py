@@ -249,7 +249,7 @@ def test_a_band_limit_that_no_longer_fits_leaves_the_rate_out():
     assert [p.data_rate_hz for p in sweep.points] == [50.0, 100.0, 200.0]
     assert len(sweep.skipped) == 1
     rate, why = sweep.skipped[0]
-    assert rate == 25.0 and "band limit at 20 Hz" in why
+    assert rate == 25.0 and "band limit at 20.0 Hz" in why
 
 
 def test_rates_below_twice_the_band_top_are_kept_and_marked():

@@ -238,8 +238,8 @@ def test_attenuation_floor(db, text):
 
 
 def test_residue_floor():
-    assert format_residue(5.91e-54) == "below 1e-15 V"
-    assert format_residue(0.0) == "below 1e-15 V"
+    assert format_residue(5.91e-54) == "below 1.00 fV"
+    assert format_residue(0.0) == "below 1.00 fV"
     assert format_residue(2.4e-6) == "2.40 µV rms"
 
 

@@ -66,6 +66,7 @@ from ..noise.physics import (
     noise_rms_to_snr,
     peak_to_peak_factor,
 )
+from ..units.formatting import format_si
 from .converter import (
     InputNoiseDensity,
     NoiseAtRate,
@@ -586,8 +587,10 @@ def forward_budget(
     ):
         outside = True
         warnings.append(
-            f"the sensor output at the ADC runs from {low:.4g} V to {high:.4g} V, outside its "
-            f"{chain.adc.input_polarity} input window {window[0]:.4g} V … {window[1]:.4g} V: "
+            f"the sensor output at the ADC runs from {format_si(low, 'V')} to "
+            f"{format_si(high, 'V')}, outside its "
+            f"{chain.adc.input_polarity} input window {format_si(window[0], 'V')} … "
+            f"{format_si(window[1], 'V')}: "
             "shift the offset or change the gain"
         )
     return Budget(**{**budget.__dict__, "warnings": tuple(warnings), "outside_window": outside})
@@ -747,7 +750,7 @@ def _adc_contributions(c: _Collector, chain: Chain, band: Band, warnings: list[s
             adc.name,
             "adc",
             own,
-            f"density integrated over {nb.white_hz:.4g} Hz noise bandwidth",
+            f"density integrated over {format_si(nb.white_hz, 'Hz')} noise bandwidth",
             id=adc_id,
         )
     else:  # pragma: no cover - the union is closed
@@ -807,8 +810,9 @@ def _jitter_contribution(
     rms = float(jitter_noise_rms(frequency, amplitude, adc.aperture_jitter_s))
     factor = chain.post_variance_factor() if adc.architecture == "sar" else 1.0
     note = (
-        f"2π·f·A_rms·σ_j at {frequency:.4g} Hz ({how}), A_rms = {amplitude:.4g} V "
-        f"(full span at the ADC), σ_j = {adc.aperture_jitter_s:.3g} s"
+        f"2π·f·A_rms·σ_j at {format_si(frequency, 'Hz')} ({how}), A_rms = "
+        f"{format_si(amplitude, 'V')} "
+        f"(full span at the ADC), σ_j = {format_si(adc.aperture_jitter_s, 's')}"
     )
     if factor != 1.0:
         note += f", × {math.sqrt(factor):.3g} by the digital post-filter"

@@ -21,6 +21,7 @@ import numpy as np
 
 from ..errors import ChainError, DesignError
 from ..noise.physics import quantisation_noise_rms, snr_to_noise_rms
+from ..units.formatting import format_si
 from .stages import NoiseDensity, check_nonnegative, check_positive
 
 __all__ = [
@@ -78,23 +79,26 @@ class NoiseAtRate:
         """Noise at the chain's conditions, V rms, and a note of any carry-over."""
         _check_gain(self.gain, gain)
         if _same(self.data_rate_hz, data_rate_hz):
-            return self.rms_v, f"quoted at {self.data_rate_hz:g} Hz data rate"
+            return self.rms_v, f"quoted at {format_si(self.data_rate_hz, 'Hz')} data rate"
         if not self.scale_with_rate:
             raise ChainError(
                 "adc.noise_data_rate",
                 self.data_rate_hz,
-                f"the chain's data rate {data_rate_hz:g} Hz, or scale_with_rate = true "
+                f"the chain's data rate {format_si(data_rate_hz, 'Hz')}, or scale_with_rate = true "
                 "to carry the figure over as white noise",
             )
         factor = math.sqrt(data_rate_hz / self.data_rate_hz)
         return self.rms_v * factor, (
-            f"scaled from {self.data_rate_hz:g} Hz to {data_rate_hz:g} Hz as white noise"
+            f"scaled from {format_si(self.data_rate_hz, 'Hz')} to {format_si(data_rate_hz, 'Hz')} "
+            "as white noise"
         )
 
 
 def _check_gain(quoted: float | None, used: float) -> None:
     if quoted is not None and not _same(quoted, used):
-        raise ChainError("adc.noise_gain", quoted, f"the ADC gain the chain uses ({used:g} V/V)")
+        raise ChainError(
+            "adc.noise_gain", quoted, f"the ADC gain the chain uses ({format_si(used, 'V/V')})"
+        )
 
 
 @dataclass(frozen=True)
@@ -117,7 +121,7 @@ class NoiseTable:
         _check_gain(self.gain, gain)
         for rate, rms in self.rows:
             if _same(rate, data_rate_hz):
-                return rms, f"table row at {rate:g} Hz data rate"
+                return rms, f"table row at {format_si(rate, 'Hz')} data rate"
         rates = ", ".join(f"{r:g}" for r, _ in self.rows)
         raise ChainError(
             "adc.noise_table", data_rate_hz, f"a data rate listed in the table ({rates} Hz)"
@@ -148,7 +152,7 @@ class SnrNoise:
             raise ChainError(
                 "adc.snr_sample_rate",
                 self.sample_rate_hz,
-                f"the chain's sample rate {sample_rate_hz:g} Hz",
+                f"the chain's sample rate {format_si(sample_rate_hz, 'Hz')}",
             )
         return float(snr_to_noise_rms(self.snr_db, full_scale_range_v)), (
             f"from SNR {self.snr_db:g} dB"
@@ -259,7 +263,7 @@ class ADC:
                 raise DesignError(
                     "data_rate",
                     self.data_rate_hz,
-                    f"at most the sample rate {self.sample_rate_hz:g} Hz",
+                    f"at most the sample rate {format_si(self.sample_rate_hz, 'Hz')}",
                 )
         if self.architecture == "delta-sigma" and self.data_rate_hz is None:
             raise DesignError(

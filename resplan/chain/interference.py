@@ -41,6 +41,7 @@ from typing import Any
 import numpy as np
 
 from ..errors import DesignError
+from ..units.formatting import format_percent
 from .alias import alias_frequency, allowed_residue
 from .requirement import Requirement
 from .signal_chain import Chain
@@ -62,7 +63,7 @@ __all__ = [
 
 #: Attenuation past this is written as a floor (an exact null, or past numerical precision).
 ATTENUATION_FLOOR_DB = 200.0
-#: Residues below this are written as "below 1e-15 V".
+#: Residues below this are written as "below 1.00 fV".
 RESIDUE_FLOOR_V = 1e-15
 #: Points per digital side lobe when a tolerance window is searched for its worst frequency.
 _POINTS_PER_LOBE = 32
@@ -434,7 +435,7 @@ def interference_residue(
         worst = max(components, key=lambda c: c.residue_v)
         lands = (
             f"at {_hz(worst.alias_hz)} (harmonic {_hz(worst.nominal_hz)}, worst at "
-            f"{_hz(worst.frequency_hz)} within ±{tol * 100:g} %)"
+            f"{_hz(worst.frequency_hz)} within ±{format_percent(tol)})"
         )
     else:
         total = _broadband_rms(chain, interferer, f_low_hz)

@@ -65,6 +65,7 @@ from ..noise.sections import (
     sallen_key_lowpass,
     sallen_key_parts,
 )
+from ..units.formatting import format_si
 from .stages import (
     MAX_SECTION_Q,
     ActiveFilter,
@@ -802,8 +803,10 @@ def check_circuit(circuit: ChainCircuit, band_top_hz: float | None = None) -> No
                 raise DesignError(
                     f"{seg.where}.gbw",
                     amp.gbw_hz,
-                    f"a gain-bandwidth product above {gain * band_top_hz:.4g} Hz: the stage's "
-                    f"gain {gain:.4g} V/V at the band top {band_top_hz:.4g} Hz needs it",
+                    f"a gain-bandwidth product above {format_si(gain * band_top_hz, 'Hz')}: the "
+                    "stage's "
+                    f"gain {format_si(gain, 'V/V')} at the band top {format_si(band_top_hz, 'Hz')} "
+                    "needs it",
                 )
 
 

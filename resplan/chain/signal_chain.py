@@ -9,6 +9,7 @@ from functools import cached_property
 from ..errors import DesignError
 from ..noise.bandwidth import DigitalPath, noise_bandwidth
 from ..noise.responses import AnalogLowpass, IdealLowpass, SincFilter
+from ..units.formatting import format_si
 from .converter import ADC
 from .stages import AnalogStage, RCFilter, Reference, Sensor, check_positive
 
@@ -42,7 +43,7 @@ class Band:
                 raise DesignError(
                     "band.f_high",
                     self.f_high_hz,
-                    f"an upper band edge above f_low = {self.f_low_hz:g} Hz",
+                    f"an upper band edge above f_low = {format_si(self.f_low_hz, 'Hz')}",
                 )
 
 
@@ -85,7 +86,7 @@ class Chain:
                 raise DesignError(
                     "digital_filter[0].input_rate",
                     self.digital.sample_rate_hz,
-                    f"the ADC sample rate {adc.sample_rate_hz:g} Hz",
+                    f"the ADC sample rate {format_si(adc.sample_rate_hz, 'Hz')}",
                 )
         if adc.architecture == "delta-sigma":
             first = self.digital.stages[0] if self.digital else None
@@ -102,8 +103,9 @@ class Chain:
                 raise DesignError(
                     "digital_filter[0].length",
                     first.length,
-                    f"a decimation ratio giving the ADC data rate {adc.output_rate_hz:g} Hz "
-                    f"from {adc.sample_rate_hz:g} Hz",
+                    "a decimation ratio giving the ADC data rate "
+                    f"{format_si(adc.output_rate_hz, 'Hz')} "
+                    f"from {format_si(adc.sample_rate_hz, 'Hz')}",
                 )
 
     @property

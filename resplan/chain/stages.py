@@ -16,6 +16,7 @@ import numpy as np
 
 from ..errors import DesignError
 from ..noise.responses import AnalogLowpass
+from ..units.formatting import format_si
 
 __all__ = [
     "NoiseDensity",
@@ -645,7 +646,9 @@ class Reference:
         check_nonnegative("noise", rms_v, "a noise ≥ 0 V rms")
         check_positive("noise_band_low", f_low_hz, "a band edge > 0 Hz")
         if not (math.isfinite(f_high_hz) and f_high_hz > f_low_hz):
-            raise DesignError("noise_band_high", f_high_hz, f"a band edge above {f_low_hz:g} Hz")
+            raise DesignError(
+                "noise_band_high", f_high_hz, f"a band edge above {format_si(f_low_hz, 'Hz')}"
+            )
         check_nonnegative("corner", corner_hz, "a 1/f corner ≥ 0 Hz")
         power_bw = corner_hz * math.log(f_high_hz / f_low_hz) + (f_high_hz - f_low_hz)
         return NoiseDensity(rms_v / math.sqrt(power_bw), corner_hz)

@@ -46,6 +46,7 @@ import math
 from dataclasses import dataclass
 
 from ..errors import DesignError
+from ..units.formatting import format_percent
 
 __all__ = ["Spread", "DISTRIBUTIONS", "FORMS", "TEMPCO_REFERENCE_K", "WORST_CASE_SIGMAS"]
 
@@ -138,5 +139,5 @@ class Spread:
         else:
             how = "no spread"
         if self.tempco_per_k:
-            how += f"; {self.tempco_per_k * 100:.3g} %/K from 25 °C"
+            how += f"; {format_percent(self.tempco_per_k)}/K from 25 °C"
         return how

@@ -43,6 +43,8 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
+from resplan.units.formatting import format_percent
+
 from .interference import Residue
 from .passband import Droop, passband_droop
 from .timing import DigitalTiming, digital_timing
@@ -223,7 +225,7 @@ def _input_window(
                 used,
                 1.0,
                 "",
-                f"the sensor span needs {used * 100:.3g} % of the ADC range: the ADC "
+                f"the sensor span needs {format_percent(used)} of the ADC range: the ADC "
                 "overloads; lower the gain",
             )
         )
@@ -284,8 +286,8 @@ def _headroom(budget: Budget, out: list[Failure], checked: list[str]) -> None:
                 used,
                 limit,
                 "",
-                f"the sensor span uses {used * 100:.3g} % of the ADC range, past the "
-                f"{limit * 100:.3g} % that keeps the stated {req.headroom * 100:.3g} % "
+                f"the sensor span uses {format_percent(used)} of the ADC range, past the "
+                f"{format_percent(limit)} that keeps the stated {format_percent(req.headroom)} "
                 "headroom: lower the gain",
             )
         )

@@ -474,7 +474,7 @@ def read_digital(r: TableReader, t: DigitalTable | None, adc: Any) -> DigitalPat
                 f"{p}.decimation",
                 t.decimation,
                 f"a whole decimation ratio sample_rate / data_rate from 1 to {MAX_DECIMATION} "
-                f"(here {rate:g} Hz / {data_rate:g} Hz = {ratio:.6g})",
+                f"(here {format_si(rate, 'Hz')} / {format_si(data_rate, 'Hz')} = {ratio:.6g})",
             )
             return None
         stages.append(SincFilter(int(t.decimation[-1]), int(whole), rate))
@@ -502,7 +502,7 @@ def read_digital(r: TableReader, t: DigitalTable | None, adc: Any) -> DigitalPat
                 r.errors[-1] = DesignError(
                     f"{p}.band_limit",
                     t.band_limit,
-                    f"a band limit ≤ half the rate it runs at ({here / 2:g} Hz)",
+                    f"a band limit ≤ half the rate it runs at ({format_si(here / 2, 'Hz')})",
                 )
             else:
                 stages.append(limit)
@@ -527,14 +527,18 @@ def read_band(
         r.bad(
             f"{p}.data_rate",
             t.data_rate,
-            f"the chain's output data rate, {out_rate:g} Hz (ADC rates and [digital])",
+            f"the chain's output data rate, {format_si(out_rate, 'Hz')} (ADC rates and [digital])",
         )
     if f_high is None and data_rate is not None:
         f_high = data_rate / 2
-        r.notes.append(f"signal band top = half the output data rate = {f_high:g} Hz")
+        r.notes.append(f"signal band top = half the output data rate = {format_si(f_high, 'Hz')}")
     nyquist = (out_rate if out_rate is not None else data_rate or math.inf) / 2
     if f_high is not None and f_high > nyquist * (1 + 1e-9):
-        r.bad(f"{p}.f_high", t.f_high, f"a band top ≤ half the output data rate ({nyquist:g} Hz)")
+        r.bad(
+            f"{p}.f_high",
+            t.f_high,
+            f"a band top ≤ half the output data rate ({format_si(nyquist, 'Hz')})",
+        )
         return None
     band = r.build("", Band, f_low, f_high)
     if band is None:

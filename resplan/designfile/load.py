@@ -40,6 +40,7 @@ from typing import Any
 from ..chain.design import Design, Meta, OpenPart, Revision
 from ..chain.signal_chain import ROOM_TEMPERATURE_K
 from ..errors import DesignError, DesignErrors, ResplanError, describe_value, escaped
+from ..units.formatting import format_si
 from .bounds import MAX_FILE_BYTES, DesignFileError, capped, check_bounds, read_bounded
 from .converter import (
     MAX_AVERAGE,
@@ -346,7 +347,7 @@ def check_design(design: Design, *, grid_points: int = 2000):
                     item.stage,
                     item.name,
                     f"figures whose noise stays finite (its {item.name} is "
-                    f"{item.rms_v:g} V rms at the sensor)",
+                    f"{format_si(item.rms_v, 'V')} rms at the sensor)",
                 )
         if not math.isfinite(budget.total_rms_v):
             raise ChainError("design", "?", "figures whose total noise stays finite")

@@ -46,7 +46,7 @@ from ..chain.stages import (
     Sensor,
 )
 from ..errors import DesignError
-from ..units.formatting import format_si
+from ..units.formatting import format_percent, format_si
 from ..units.parse import DIMENSIONS, parse_any, parse_db, parse_percent, parse_quantity
 from ..units.ranges import (
     RANGES,
@@ -444,7 +444,7 @@ def _requirement_extras(r: TableReader, t: RequirementTable, p: str) -> dict[str
 
 
 def _describe(t: RequirementTable, counts: float | None, form: str, coverage: float) -> str:
-    cov = f"{coverage * 100:.4g} % coverage"
+    cov = f"{format_percent(coverage)} coverage"
     span = t.span if t.span is not None else f"{t.sensitivity} × {t.excitation}"
     if form == "resolution":
         return f"{t.resolution} noise-free out of {t.capacity} at {cov}"

@@ -35,6 +35,7 @@ from functools import lru_cache
 import numpy as np
 
 from ..errors import ChainError, DesignError
+from ..units.formatting import format_si
 from .responses import AnalogLowpass, DigitalFilter, IdealLowpass, SincFilter
 
 __all__ = ["DigitalPath", "NoiseBandwidth", "noise_bandwidth", "integrate_psd"]
@@ -77,7 +78,7 @@ class DigitalPath:
                 raise DesignError(
                     f"digital_filter[{i}].input_rate",
                     here.input_rate_hz,
-                    f"the previous stage's output rate, {before.output_rate_hz:g} Hz",
+                    f"the previous stage's output rate, {format_si(before.output_rate_hz, 'Hz')}",
                 )
 
     @property
@@ -243,7 +244,9 @@ def integrate_psd(
     if not (math.isfinite(f_low_hz) and f_low_hz > 0):
         raise DesignError("band.f_low", f_low_hz, "a lower band edge > 0 Hz")
     if f_high_hz is not None and not (math.isfinite(f_high_hz) and f_high_hz > f_low_hz):
-        raise DesignError("band.f_high", f_high_hz, f"an upper band edge > f_low = {f_low_hz:g} Hz")
+        raise DesignError(
+            "band.f_high", f_high_hz, f"an upper band edge > f_low = {format_si(f_low_hz, 'Hz')}"
+        )
     if digital is None:
         return _integrate_analog(psd, analog, f_low_hz, f_high_hz, grid_points)
     if f_high_hz is not None:
@@ -264,7 +267,7 @@ def _integrate_analog(psd, analog, f_low, f_high, grid_points):
     order = sum(r.rolloff_order for r in analog)
     top = f_high if f_high is not None else _ANALOG_TOP_FACTOR * max(r.cutoff_hz for r in analog)
     if top <= f_low:
-        raise DesignError("band.f_low", f_low, f"a lower band edge below {top:g} Hz")
+        raise DesignError("band.f_low", f_low, f"a lower band edge below {format_si(top, 'Hz')}")
     edges = np.geomspace(f_low, top, grid_points + 1)
     mid = 0.5 * (edges[1:] + edges[:-1])
     width = np.diff(edges)
@@ -281,7 +284,9 @@ def _base_grid(digital: DigitalPath, f_low: float, grid_points: int) -> tuple:
     fs = digital.sample_rate_hz
     half = fs / 2
     if f_low >= half:
-        raise DesignError("band.f_low", f_low, f"a lower band edge below f_s/2 = {half:g} Hz")
+        raise DesignError(
+            "band.f_low", f_low, f"a lower band edge below f_s/2 = {format_si(half, 'Hz')}"
+        )
     has_envelope = digital._decimator is not None
     resolved_top = min(half, _RESOLVED_PERIODS * digital.fast_period_hz) if has_envelope else half
     nodes = [np.geomspace(f_low, resolved_top, grid_points + 1)]

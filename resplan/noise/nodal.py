@@ -44,6 +44,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from ..errors import DesignError
+from ..units.formatting import format_si
 from .netlist import (
     GROUND,
     Capacitor,
@@ -317,7 +318,7 @@ def _diagnose_singular(mna: MnaSystem, frequency_hz: np.ndarray) -> CircuitError
             else:
                 nodes.setdefault(node, None)
     return CircuitError(
-        f"singular at {frequency_hz[worst]:g} Hz: the circuit does not fix "
+        f"singular at {format_si(frequency_hz[worst], 'Hz')}: the circuit does not fix "
         "these voltages or branch currents (a node held only by capacitors "
         "at 0 Hz, or an ideal op amp without feedback)",
         nodes=list(nodes),
@@ -658,7 +659,9 @@ def integrate_psd(
     tolerance = 1e-9 * (f[-1] - f[0])
     if not (f[0] - tolerance <= lo < hi <= f[-1] + tolerance):
         raise DesignError(
-            "band", (f_low_hz, f_high_hz), f"f_low < f_high within the grid {f[0]:g}..{f[-1]:g} Hz"
+            "band",
+            (f_low_hz, f_high_hz),
+            f"f_low < f_high within the grid {f[0]:g}..{format_si(f[-1], 'Hz')}",
         )
     lo, hi = max(lo, f[0]), min(hi, f[-1])
     inside = (f > lo) & (f < hi)

@@ -20,6 +20,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from ..errors import DesignError
+from ..units.formatting import format_si
 
 __all__ = [
     "ANALOG_KINDS",
@@ -330,7 +331,7 @@ class IdealLowpass:
             raise DesignError(
                 "band.f_high",
                 self.cutoff_hz,
-                f"a band edge ≤ half the sample rate ({self.input_rate_hz / 2:g} Hz)",
+                f"a band edge ≤ half the sample rate ({format_si(self.input_rate_hz / 2, 'Hz')})",
             )
         if self.decimate_to_hz is not None:
             _positive("digital_filter.output_rate", self.decimate_to_hz, "a data rate > 0 Hz")
@@ -338,13 +339,14 @@ class IdealLowpass:
                 raise DesignError(
                     "digital_filter.output_rate",
                     self.decimate_to_hz,
-                    f"a data rate ≤ the input rate ({self.input_rate_hz:g} Hz)",
+                    f"a data rate ≤ the input rate ({format_si(self.input_rate_hz, 'Hz')})",
                 )
             if self.cutoff_hz > self.decimate_to_hz / 2 * (1 + 1e-9):
                 raise DesignError(
                     "band.f_high",
                     self.cutoff_hz,
-                    f"a band edge ≤ half the data rate ({self.decimate_to_hz / 2:g} Hz)",
+                    "a band edge ≤ half the data rate "
+                    f"({format_si(self.decimate_to_hz / 2, 'Hz')})",
                 )
 
     @property

@@ -38,6 +38,7 @@ from functools import cache
 from typing import Literal
 
 from ..errors import DesignError
+from ..units.formatting import format_si
 from .netlist import GROUND, Capacitor, OpAmpModel, Part, Resistor
 
 __all__ = [
@@ -281,7 +282,8 @@ def sallen_key_lowpass(
                 raise DesignError(
                     "c1_f",
                     c1_f,
-                    f"C1 ≥ 4Q²·C2 / (1 + 4Q²(K − 1)) = {limit:.4g} F (no real resistors otherwise)",
+                    f"C1 ≥ 4Q²·C2 / (1 + 4Q²(K − 1)) = {format_si(limit, 'F')} (no real resistors "
+                    "otherwise)",
                 )
             roots = [(b + sign * math.sqrt(disc)) / (2.0 * a) for sign in (1.0, -1.0)]
         roots = [r for r in roots if r > 0.0]
@@ -363,7 +365,9 @@ def multiple_feedback_lowpass(
     if c1_f is not None:
         _check_section(f0_hz, q, gain, c1_f)
         if c1_f < minimum * (1.0 - 1e-12):
-            raise DesignError("c1_f", c1_f, f"a capacitor ≥ 4Q²(1 + K)·C2 = {minimum:.4g} F")
+            raise DesignError(
+                "c1_f", c1_f, f"a capacitor ≥ 4Q²(1 + K)·C2 = {format_si(minimum, 'F')}"
+            )
     s = 1.0 / (w0 * q * c2)
     p = 1.0 / (w0 * w0 * c1 * c2)
     r2 = 0.5 * (s + math.sqrt(max(0.0, s * s - 4.0 * (1.0 + gain) * p)))

@@ -232,7 +232,7 @@ def format_budget(
     table = _table(rows, {3, 4, 5})
     rule = "  " + "-" * (len(table[0]) - 2)
     lines += [table[0], rule, *table[1:-1], rule, table[-1]]
-    lines.append(f"  gain from sensor to ADC input: {budget.gain:.4g} V/V")
+    lines.append(f"  gain from sensor to ADC input: {format_si(budget.gain, 'V/V')}")
     lines.append("")
 
     lines.append("Resolution")

@@ -1,8 +1,8 @@
 """Stated interferers through the chain, written for people (text and report share it).
 
 Attenuation at an exact null, or past what double precision can resolve, is
-written as a floor (``"> 200 dB, at a null"``) and a residue below 1e-15 V as
-``"below 1e-15 V"``, never as a figure like 984.5 dB or 5.91e-54 V that no
+written as a floor (``"> 200 dB, at a null"``) and a residue below 1 fV as
+``"below 1.00 fV"``, never as a figure like 984.5 dB or 5.91e-54 V that no
 bench could confirm.
 
 Examples
@@ -12,7 +12,7 @@ Examples
 >>> format_attenuation(42.04)
 '42.0 dB'
 >>> format_residue(5.91e-54)
-'below 1e-15 V'
+'below 1.00 fV'
 """
 
 from __future__ import annotations
@@ -39,9 +39,9 @@ def format_attenuation(db: float) -> str:
 
 
 def format_residue(volts: float) -> str:
-    """An rms residue in V, or ``below 1e-15 V``."""
+    """An rms residue in V, or ``below 1.00 fV``."""
     if volts < RESIDUE_FLOOR_V:
-        return f"below {RESIDUE_FLOOR_V:g} V"
+        return f"below {format_si(RESIDUE_FLOOR_V, 'V')}"
     return format_si(volts, "V") + " rms"
 
 

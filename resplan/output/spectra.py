@@ -50,6 +50,7 @@ from ..errors import ChainError, DesignError
 from ..noise.bandwidth import DigitalPath
 from ..noise.physics import peak_to_peak_factor
 from ..noise.responses import IdealLowpass, SincFilter
+from ..units.formatting import format_si
 
 __all__ = [
     "ContributorSpectrum",
@@ -430,7 +431,7 @@ def noise_spectra(chain: Chain, budget: Budget, *, bins: int = 300) -> Spectra:
     f_low = budget.f_low_hz
     f_top = _plot_top(chain)
     if not f_top > f_low:
-        raise ChainError("band.f_low", f_low, f"a lower band edge below {f_top:g} Hz")
+        raise ChainError("band.f_low", f_low, f"a lower band edge below {format_si(f_top, 'Hz')}")
     bin_edges = np.geomspace(f_low, f_top, bins + 1)
     widths = np.diff(bin_edges)
     mid, width, digital_gain = _fine_grid(f_low, f_top, bin_edges, chain.digital)
@@ -640,7 +641,7 @@ def _at_data_rate(chain: Chain, rate_hz: float) -> tuple[Chain | None, str]:
     ratio = fs / rate_hz
     length = round(ratio)
     if length < 1 or not math.isclose(ratio, length, rel_tol=1e-9):
-        return None, f"decimation ratio {fs:g} Hz / ODR not a whole number"
+        return None, f"decimation ratio {format_si(fs, 'Hz')} / ODR not a whole number"
     stages = list(chain.digital.stages)
     stages[0] = replace(stages[0], length=length)
     for i in range(1, len(stages)):
@@ -648,7 +649,8 @@ def _at_data_rate(chain: Chain, rate_hz: float) -> tuple[Chain | None, str]:
         stage = stages[i]
         if isinstance(stage, IdealLowpass) and stage.cutoff_hz > rate_in / 2:
             return None, (
-                f"band limit at {stage.cutoff_hz:g} Hz above half the rate it would run at"
+                f"band limit at {format_si(stage.cutoff_hz, 'Hz')} above half the rate it would "
+                "run at"
             )
         stages[i] = replace(stage, input_rate_hz=rate_in)
     try:

@@ -29,7 +29,7 @@ from ..chain.design import Design
 from ..chain.signal_chain import Chain
 from ..chain.verdict import stated_interferers
 from ..errors import DesignError, DesignErrors
-from ..units.formatting import format_si
+from ..units.formatting import format_percent, format_si
 from .levers import Lever, find_levers
 from .limits import UNSUPPRESSED, PartRequirement, gain_limits, part_limits
 from .provisional import DEFAULT_FILTER, Slot, provisional_chain
@@ -359,10 +359,11 @@ def _digital_path_reasons(design: Design, chain) -> list[str]:
 def _standing_assumptions(design: Design, budget: Budget) -> list[str]:
     req = design.requirement
     out = [
-        f"coverage {req.coverage * 100:.4g} % (k_pp = {req.k_pp:.3f}) for noise-free figures",
+        f"coverage {format_percent(req.coverage)} (k_pp = {req.k_pp:.3f}) for noise-free figures",
         f"electronics at {design.temperature_k:.2f} K, "
         f"sensor at {budget.sensor_temperature_k:.2f} K",
-        f"1/f noise integrated from f_low = {design.band.f_low_hz:g} Hz (about 1/observation time)",
+        f"1/f noise integrated from f_low = {format_si(design.band.f_low_hz, 'Hz')} (about "
+        "1/observation time)",
         "uncorrelated sources add in power; open parts share the remaining power by weight",
         f"reference: {budget.reference_note}",
     ]

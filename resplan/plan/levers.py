@@ -77,7 +77,8 @@ def find_levers(design, chain, budget, fixed, fixed_var, req, band, grid_points)
                 "colder sensor",
                 t_s * room_s / thermal_s,
                 "K",
-                f"the sensor at or below {t_s * room_s / thermal_s:.4g} K (now {t_s:.2f} K)",
+                f"the sensor at or below {format_si(t_s * room_s / thermal_s, 'K')} (now {t_s:.2f} "
+                "K)",
             )
         )
     else:
@@ -99,7 +100,7 @@ def find_levers(design, chain, budget, fixed, fixed_var, req, band, grid_points)
                 "lower temperature",
                 factor * t,
                 "K",
-                f"every resistor at or below {factor * t:.4g} K (now {t:.2f} K; "
+                f"every resistor at or below {format_si(factor * t, 'K')} (now {t:.2f} K; "
                 "thermal terms scale with T)",
             )
         )
@@ -133,7 +134,8 @@ def _averaging_lever(chain: Chain, band, req, grid_points: int) -> Lever:
                 None,
                 "",
                 f"not possible within the band: averaging {n} results would give an output "
-                f"rate of {rate / n:.4g} Hz, below twice the band top ({2 * top:.4g} Hz); "
+                f"rate of {format_si(rate / n, 'Hz')}, below twice the band top "
+                f"({format_si(2 * top, 'Hz')}); "
                 "a narrower band is a change of requirement",
             )
         extra = SincFilter(1, n, rate)
@@ -148,7 +150,8 @@ def _averaging_lever(chain: Chain, band, req, grid_points: int) -> Lever:
                 "longer averaging / narrower band",
                 float(n),
                 "",
-                f"average {n} more results: output rate {rate / n:.4g} Hz (now {rate:.4g} Hz), "
+                f"average {n} more results: output rate {format_si(rate / n, 'Hz')} (now "
+                f"{format_si(rate, 'Hz')}), "
                 f"computed with 1/f noise, which does not average down",
             )
     return Lever(

@@ -63,7 +63,7 @@ def _path_bandwidth(chain: Chain, index: int, band, grid_points: int):
 
 
 def _band_text(nb) -> str:
-    return f"white noise bandwidth {nb.white_hz:.4g} Hz"
+    return f"white noise bandwidth {format_si(nb.white_hz, 'Hz')}"
 
 
 def _amplifier_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_points):
@@ -80,7 +80,7 @@ def _amplifier_rows(slot: Slot, var: float, chain: Chain, design: Design, band, 
     e_for_current = math.sqrt(at_input / (nb.white_hz + fc_i * nb.flicker))
     in_max = e_for_current / r_seen if r_seen > 0 else math.inf
     role = "front end" if i == first_gain_index(chain) else "driver"
-    corner_text = f"1/f corner {fc_e:g} Hz" + (
+    corner_text = f"1/f corner {format_si(fc_e, 'Hz')}" + (
         "" if "en_corner_hz" in part.known else " (assumed: state it)"
     )
     rows = [
@@ -104,7 +104,7 @@ def _amplifier_rows(slot: Slot, var: float, chain: Chain, design: Design, band, 
                 in_max,
                 "A/√Hz",
                 "max",
-                f"1/f corner {fc_i:g} Hz"
+                f"1/f corner {format_si(fc_i, 'Hz')}"
                 + ("" if "in_corner_hz" in part.known else " (assumed: state it)")
                 + f"; {_band_text(nb)}",
                 "i_n = e_allowed / R_source",
@@ -129,7 +129,7 @@ def _amplifier_rows(slot: Slot, var: float, chain: Chain, design: Design, band, 
             en_max * stage.gain,
             "V/√Hz",
             "max",
-            f"at its output, gain {stage.gain:.4g} V/V; {_band_text(nb)}",
+            f"at its output, gain {format_si(stage.gain, 'V/V')}; {_band_text(nb)}",
             "e_out = e_n · G",
         ),
     ]
@@ -186,7 +186,7 @@ def _alias_rows(part: OpenPart, stage: ActiveFilter, chain: Chain, design: Desig
                 f_i,
                 sine_rms(req.span_v),
                 None,
-                f"a full-scale sine at the first alias band, f_s − f_B = {f_i:g} Hz "
+                f"a full-scale sine at the first alias band, f_s − f_B = {format_si(f_i, 'Hz')} "
                 "(no interferer stated)",
             )
         ]
@@ -209,7 +209,7 @@ def _alias_rows(part: OpenPart, stage: ActiveFilter, chain: Chain, design: Desig
         PartRequirement(
             part.name,
             part.field_path,
-            f"attenuation at {f_i:g} Hz",
+            f"attenuation at {format_si(f_i, 'Hz')}",
             filter_db,
             "dB",
             "min",
@@ -226,7 +226,7 @@ def _alias_rows(part: OpenPart, stage: ActiveFilter, chain: Chain, design: Desig
         PartRequirement(
             part.name,
             part.field_path,
-            f"{response} order for a cut-off of {cutoff:g} Hz",
+            f"{response} order for a cut-off of {format_si(cutoff, 'Hz')}",
             float(min_order) if min_order is not None else math.inf,
             "",
             "min",
@@ -249,10 +249,11 @@ def _alias_rows(part: OpenPart, stage: ActiveFilter, chain: Chain, design: Desig
             fc_max,
             "Hz",
             "max",
-            f"inside the signal band (top {top:g} Hz): not usable, the signal would droop; "
+            f"inside the signal band (top {format_si(top, 'Hz')}): not usable, the signal would "
+            "droop; "
             "raise the order or the sample rate"
             if fc_max < top
-            else f"the signal band top is {top:g} Hz",
+            else f"the signal band top is {format_si(top, 'Hz')}",
             "f_c = f / (10^(A/10) − 1)^(1/2n) for Butterworth",
         )
     )
@@ -289,7 +290,8 @@ def _stated_tones(design: Design, chain: Chain, stage) -> list:
                     x.frequency_hz,
                     x.amplitude_v,
                     x.allowance_v,
-                    f"{x.name}: {_v(x.amplitude_v)} rms at {x.frequency_hz:g} Hz (at the sensor)",
+                    f"{x.name}: {_v(x.amplitude_v)} rms at {format_si(x.frequency_hz, 'Hz')} (at "
+                    "the sensor)",
                 )
             )
         elif isinstance(x, Mains):
@@ -303,8 +305,9 @@ def _stated_tones(design: Design, chain: Chain, stage) -> list:
                             f,
                             a,
                             x.allowance_v,
-                            f"{x.name}: harmonic {h} of {f0:g} Hz, {_v(a)} rms, worst at "
-                            f"{f:.4g} Hz within ±{x.tolerance * 100:g} %",
+                            f"{x.name}: harmonic {h} of {format_si(f0, 'Hz')}, {_v(a)} rms, worst "
+                            "at "
+                            f"{format_si(f, 'Hz')} within ±{format_percent(x.tolerance)}",
                         )
                     )
     return out
@@ -334,7 +337,7 @@ def _reference_rows(slot: Slot, var: float, chain: Chain, design: Design, band, 
     fc = part.known.get("noise_corner_hz", 0.0)
     density = sigma_ref / math.sqrt(nb.white_hz + fc * nb.flicker)
     rms_01_10 = density * math.sqrt(fc * math.log(100.0) + 9.9)
-    corner_text = f"1/f corner {fc:g} Hz" + (
+    corner_text = f"1/f corner {format_si(fc, 'Hz')}" + (
         "" if "noise_corner_hz" in part.known else " (assumed: state it)"
     )
     rows = [
@@ -355,7 +358,7 @@ def _reference_rows(slot: Slot, var: float, chain: Chain, design: Design, band, 
             sigma_ref / ref.voltage_v * 1e6,
             "ppm",
             "max",
-            f"of {ref.voltage_v:g} V, rms",
+            f"of {format_si(ref.voltage_v, 'V')}, rms",
             "σ_ref / V_ref",
         ),
         PartRequirement(
@@ -498,7 +501,7 @@ def _adc_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_p
         PartRequirement(
             part.name,
             part.field_path,
-            f"noise at its input at {rate:g} Hz data rate",
+            f"noise at its input at {format_si(rate, 'Hz')} data rate",
             at_rate,
             "V",
             "max",
@@ -512,7 +515,8 @@ def _adc_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_p
             snr,
             "dB",
             "min",
-            f"full-scale range {adc.full_scale_range_v:g} V p-p at {rate:g} Hz",
+            f"full-scale range {format_si(adc.full_scale_range_v, 'V')} p-p at "
+            f"{format_si(rate, 'Hz')}",
             "SNR = 20·log10((FSR/2√2)/σ) (IEEE Std 1241)",
         ),
         PartRequirement(
@@ -600,7 +604,7 @@ def gain_limits(slots, chain: Chain, design: Design, fixed, allowed: float, reas
     others = chain.total_gain / stage.gain
     headroom = design.requirement.headroom
     g_max = (1.0 - headroom) * chain.adc.full_scale_range_v / (design.sensor.span_v * others)
-    kept = f", keeping {headroom * 100:.3g} % headroom" if headroom > 0 else ""
+    kept = f", keeping {format_percent(headroom)} headroom" if headroom > 0 else ""
     rows = [
         PartRequirement(
             name,
@@ -609,7 +613,8 @@ def gain_limits(slots, chain: Chain, design: Design, fixed, allowed: float, reas
             g_max,
             "V/V",
             "max",
-            f"sensor span {_v(design.sensor.span_v)} into {chain.adc.full_scale_range_v:g} V "
+            f"sensor span {_v(design.sensor.span_v)} into "
+            f"{format_si(chain.adc.full_scale_range_v, 'V')} "
             f"full-scale range{kept}",
             "G_max = (1 − headroom) · FSR / (span · other gains)",
         )
@@ -634,8 +639,9 @@ def gain_limits(slots, chain: Chain, design: Design, fixed, allowed: float, reas
         )
         if g_min > g_max * (1 + 1e-9):
             reasons.append(
-                f"the ADC's noise needs a front-end gain of at least {g_min:.4g} V/V but the ADC "
-                f"range allows at most {g_max:.4g} V/V: a quieter ADC or a larger span"
+                f"the ADC's noise needs a front-end gain of at least {format_si(g_min, 'V/V')} but "
+                "the ADC "
+                f"range allows at most {format_si(g_max, 'V/V')}: a quieter ADC or a larger span"
             )
     return rows
 

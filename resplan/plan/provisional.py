@@ -16,6 +16,7 @@ from ..chain.design import Design, OpenPart
 from ..chain.signal_chain import Chain
 from ..chain.stages import ActiveFilter, IntegratedAmplifier, NoiseDensity, Reference
 from ..errors import DesignError, DesignErrors
+from ..units.formatting import format_percent, format_si
 
 __all__ = ["DEFAULT_FILTER", "Slot", "provisional_chain", "signal_band_top"]
 
@@ -87,7 +88,8 @@ def _placeholder_filter(part: OpenPart, design: Design, slot: Slot) -> ActiveFil
     if cutoff is None:
         cutoff = signal_band_top(design)
         slot.assumptions.append(
-            f"{part.name}: cut-off not stated, the signal band top {cutoff:g} Hz assumed "
+            f"{part.name}: cut-off not stated, the signal band top {format_si(cutoff, 'Hz')} "
+            "assumed "
             "for its noise bandwidth"
         )
     return ActiveFilter(part.name, response, int(order), cutoff, gain=k.get("gain", 1.0))
@@ -139,7 +141,8 @@ def provisional_chain(design: Design) -> tuple[Chain, list[Slot], list[str]]:
             slot.part = replace(slot.part, known=k)
             slot.assumptions.append(
                 f"{slot.part.name}: bandwidth not stated and nothing after it bounds its noise; "
-                f"{adc.sample_rate_hz:g} Hz (the ADC sample rate) assumed: state bandwidth or gbw"
+                f"{format_si(adc.sample_rate_hz, 'Hz')} (the ADC sample rate) assumed: state "
+                "bandwidth or gbw"
             )
             stages[slot.index] = _placeholder_amplifier(slot.part, stages[slot.index].gain)
     # The first amplifier of unknown gain takes the largest gain the ADC range allows.
@@ -153,14 +156,15 @@ def provisional_chain(design: Design) -> tuple[Chain, list[Slot], list[str]]:
             usable = 1.0 - headroom
             gain = usable * adc.full_scale_range_v / (design.sensor.span_v * others)
             kept = (
-                f"the sensor span fills {usable * 100:.3g} % of the range, keeping the stated "
-                f"{headroom * 100:.3g} % headroom"
+                f"the sensor span fills {format_percent(usable)} of the range, keeping the stated "
+                f"{format_percent(headroom)} headroom"
                 if headroom > 0
                 else "the sensor span fills the whole range, no headroom stated "
                 "(requirement.headroom)"
             )
             slot.assumptions.append(
-                f"{slot.part.name}: gain not stated; set to {gain:.4g} V/V, the largest the ADC "
+                f"{slot.part.name}: gain not stated; set to {format_si(gain, 'V/V')}, the largest "
+                "the ADC "
                 f"range allows ({kept}: choose the next lower gain you can build and plan again)"
             )
         else:
