@@ -23,6 +23,7 @@ import math
 import numpy as np
 import pytest
 from scipy import constants
+from scipy.integrate import trapezoid  # numpy.trapezoid is numpy ≥ 2 only
 from spice_harness import require_ngspice, run_noise
 
 from resplan import ADC, Band, NoiseDensity, Sensor, TransitionNoise, forward_budget
@@ -288,7 +289,7 @@ def test_table_interpolation_against_a_dense_direct_solve(order):
     direct = circuit.power_transfers(f)
     read = table.power_gain(f)
     live = table.live
-    ratio = np.trapezoid(read[live], f, axis=1) / np.trapezoid(direct[live], f, axis=1)
+    ratio = trapezoid(read[live], f, axis=1) / trapezoid(direct[live], f, axis=1)
     assert np.max(np.abs(ratio - 1)) < 1e-5
     assert POINTS_PER_DECADE == 80
 
