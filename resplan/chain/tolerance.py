@@ -46,7 +46,7 @@ import math
 from dataclasses import dataclass
 
 from ..errors import DesignError
-from ..units.formatting import format_percent
+from ..units.formatting import format_percent, format_si
 
 __all__ = ["Spread", "DISTRIBUTIONS", "FORMS", "TEMPCO_REFERENCE_K", "WORST_CASE_SIGMAS"]
 
@@ -131,11 +131,12 @@ class Spread:
     def describe(self) -> str:
         """One line on the reading used, for text output and reports."""
         if self.distribution == "normal":
-            how = f"normal, σ = {self.sigma:.4g} {self.unit}".rstrip()
+            how = f"normal, σ = {format_si(self.sigma, self.unit)}".rstrip()
             if self.form == "typ-max":
                 how += " (max read as +3σ; common practice, no source)"
         elif self.distribution == "uniform":
-            how = f"uniform {self.low:.4g} … {self.high:.4g} {self.unit}".rstrip()
+            low, high = format_si(self.low, self.unit), format_si(self.high, self.unit)
+            how = f"uniform {low} … {high}".rstrip()
         else:
             how = "no spread"
         if self.tempco_per_k:

@@ -148,7 +148,7 @@ def format_trials(result: TrialResult, design: Design, *, ascii_only: bool = Fal
         if result.exact
         else (
             f"factor model; {result.checks} trials solved exactly differ from it by at most "
-            f"{result.deviation:.1e} in total noise"
+            f"{format_percent(result.deviation)} in total noise"
         )
     )
     lines += ["", f"Method: {how}; {result.seconds:.2f} s."]

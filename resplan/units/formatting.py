@@ -270,6 +270,8 @@ def format_percent(fraction: float, digits: int = 3) -> str:
     '99.73 %'
     >>> format_percent(0.02)
     '2.00 %'
+    >>> format_percent(3.13e-8)
+    '< 0.0001 %'
     """
     _check_digits(digits)
     fraction = float(fraction)
@@ -277,6 +279,9 @@ def format_percent(fraction: float, digits: int = 3) -> str:
         return "n/a"
     if math.isinf(fraction):
         return "-∞ %" if fraction < 0 else "∞ %"
+    if 0 < abs(fraction * 100) < 10.0**_FIXED_LOW:
+        # a share too small to matter, never written "3.13e-06 %"
+        return f"{'> -' if fraction < 0 else '< '}{_plain(10.0**_FIXED_LOW, 1)} %"
     return f"{_plain(fraction * 100, digits)} %"
 
 

@@ -5,7 +5,7 @@ from __future__ import annotations
 from typing import Any
 
 from ...chain.design import Design, OpenPart
-from ...units.formatting import format_db, format_si, format_temperature
+from ...units.formatting import format_counts, format_db, format_si, format_temperature
 from .writer import rms
 
 
@@ -161,7 +161,8 @@ def describe_digital(design: Design) -> str:
         if isinstance(stage, SincFilter):
             what = "average" if stage.order == 1 else f"sinc^{stage.order}"
             parts.append(
-                f"{what} of {stage.length} at {format_si(stage.input_rate_hz, 'Hz')} → "
+                f"{what} of {format_counts(stage.length)} at "
+                f"{format_si(stage.input_rate_hz, 'Hz')} → "
                 f"{format_si(stage.output_rate_hz, 'Hz')}"
             )
         elif isinstance(stage, IdealLowpass):

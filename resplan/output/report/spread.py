@@ -99,7 +99,7 @@ def spread_section(w: Writer, design: Design, budget: Budget | None) -> list:
                     f"item, 95 % interval {format_percent(lo, 4)} … {format_percent(hi, 4)} "
                     f"(Clopper and Pearson, Biometrika 26 (1934) 404); {stated}. The model "
                     f"behind the trials differs from {result.checks} exact budgets by at most "
-                    f"{result.deviation:.1e} in total noise.",
+                    f"{format_percent(result.deviation)} in total noise.",
                 )
             )
             rows = [["Percentile", "Noise at sensor (rms)", "Noise-free bits"]]
