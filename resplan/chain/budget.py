@@ -210,6 +210,9 @@ class Budget:
     warnings: tuple[str, ...] = field(default_factory=tuple)
     #: The sensor's output range at the ADC (offset included) leaves its input window.
     outside_window: bool = False
+    #: Unit of the span and of every figure referred to the sensor: "V", or "A" for a
+    #: current-output sensor (the gain is then a transimpedance, V/A).
+    sensor_unit: str = "V"
 
     def __post_init__(self) -> None:
         seen: set[str] = set()
@@ -251,6 +254,11 @@ class Budget:
     def k_pp(self) -> float:
         """Peak-to-peak factor of the coverage (6.58 at 99.9 %)."""
         return peak_to_peak_factor(self.coverage)
+
+    @property
+    def gain_unit(self) -> str:
+        """Unit of :attr:`gain`: "V/V", or "V/A" after a current-output sensor."""
+        return f"V/{self.sensor_unit}"
 
     @property
     def total_adc_rms_v(self) -> float:
@@ -387,6 +395,8 @@ class Budget:
             "adc_range_used": self.adc_range_used,
             "outside_adc_window": self.outside_window,
             "gain": self.gain,
+            # A current-output sensor: every figure at the sensor (span_v, rms_v, ...) in A.
+            "sensor_unit": self.sensor_unit,
             "span_v": self.span_v,
             "temperature_k": self.temperature_k,
             "sensor_temperature_k": self.sensor_temperature_k,
@@ -573,6 +583,7 @@ def forward_budget(
         reference_note=describe_reference(chain.reference),
         requirement=requirement,
         warnings=(),
+        sensor_unit=sensor.unit,
     )
     if budget.adc_range_used > 1.0 + 1e-12:
         warnings.append(

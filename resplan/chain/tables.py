@@ -179,7 +179,7 @@ def resolution_rows(budget: Budget, name_db: bool = False) -> list[list[str]]:
     return [
         [
             "",
-            f"over the sensor span ({format_si(budget.span_v, 'V')})",
+            f"over the sensor span ({format_si(budget.span_v, budget.sensor_unit)})",
             f"over the ADC range ({format_si(budget.adc_full_scale_v, 'V')})",
         ],
         [

@@ -198,19 +198,20 @@ def _noise(budget: Budget, out: list[Failure], checked: list[str]) -> None:
     total = budget.total_rms_v
     if not bool(noise_exceeds(total, allowed)):
         return
+    unit = budget.sensor_unit
     if allowed == 0:
         message = (
-            f"noise {_si(total, 'V')} rms at the sensor: the interference allowance "
-            f"{_si(req.interference_rms_v, 'V')} rms alone uses up the "
-            f"{_si(req.allowed_total_rms_v, 'V')} rms the requirement allows"
+            f"noise {_si(total, unit)} rms at the sensor: the interference allowance "
+            f"{_si(req.interference_rms_v, unit)} rms alone uses up the "
+            f"{_si(req.allowed_total_rms_v, unit)} rms the requirement allows"
         )
     else:
         short = float(np.log2(total / allowed))
         message = (
-            f"noise {_si(total, 'V')} rms at the sensor is over the "
-            f"{_si(allowed, 'V')} rms allowed: short by {short:.2f} bits"
+            f"noise {_si(total, unit)} rms at the sensor is over the "
+            f"{_si(allowed, unit)} rms allowed: short by {short:.2f} bits"
         )
-    out.append(Failure("noise", total, allowed, "V", message))
+    out.append(Failure("noise", total, allowed, unit, message))
 
 
 def _input_window(

@@ -173,7 +173,8 @@ def design_from_mapping(
             for h in meta_t.history or ()
         ),
     )
-    requirement, span = read_requirement(r, model.requirement)
+    current = model.sensor.shunt_resistance is not None
+    requirement, span = read_requirement(r, model.requirement, current)
     temperature = r.q(
         model.requirement.temperature,
         "temperature",

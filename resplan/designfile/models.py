@@ -12,7 +12,7 @@ carries a description and an example, which feed the JSON Schema
 Examples
 --------
 >>> sorted(STAGE_TYPES)
-['active_filter', 'amplifier', 'inverting', 'noninverting', 'rc_filter']
+['active_filter', 'amplifier', 'inverting', 'noninverting', 'rc_filter', 'transimpedance']
 >>> design_schema()["properties"]["sensor"]["$ref"]
 '#/$defs/SensorTable'
 """
@@ -40,6 +40,7 @@ __all__ = [
     "RCFilterTable",
     "ActiveFilterTable",
     "InvertingTable",
+    "TransimpedanceTable",
     "STAGE_MODELS",
     "STAGE_TYPES",
     "ReferenceTable",
@@ -185,7 +186,8 @@ class RequirementTable(_Table):
     """What the chain must resolve, and the conditions it is judged at."""
 
     span: Quantity = _field(
-        "Sensor full-scale output span, V (the whole range: 20 mV for ±10 mV). "
+        "Sensor full-scale output span, V (the whole range: 20 mV for ±10 mV); a current, A, "
+        "for a current-output sensor (one with sensor.shunt_resistance, such as a photodiode). "
         "Give it, or sensitivity and excitation.",
         "10 mV",
     )
@@ -215,7 +217,9 @@ class RequirementTable(_Table):
     )
     temperature: Quantity = _field("Temperature of the electronics (default 25 degC).", "25 degC")
     interference: Quantity = _field(
-        "Allowance reserved for interference, V rms at the sensor (default 0).", "20 nV"
+        "Allowance reserved for interference, V rms at the sensor (A rms for a "
+        "current-output sensor; default 0).",
+        "20 nV",
     )
     yield_: Quantity = _field(
         "Fraction of boards that must meet, judged by `resplan yield` on the lower bound "
@@ -266,13 +270,21 @@ class SensorTable(_Table):
     resistance: Quantity = _field(
         "Output (source) resistance; its thermal noise is counted.", "350 ohm"
     )
+    shunt_resistance: Quantity = _field(
+        "A current-output sensor (a photodiode): the resistance across its output, whose "
+        "thermal noise current is counted. Give it instead of resistance; the span is then "
+        "a current and the first stage a transimpedance stage.",
+        "1 Gohm",
+    )
     bipolar: bool | None = _field(
         "The output swings both ways about zero (±span/2) rather than 0 … span.",
         False,
         strict=True,
     )
     noise_density: Quantity = _field(
-        "The sensor's own noise density beyond its resistance's thermal noise.", "40 nV/√Hz"
+        "The sensor's own noise density beyond its resistance's thermal noise (a current "
+        "density for a current-output sensor).",
+        "40 nV/√Hz",
     )
     noise_corner: Quantity = _field("1/f corner of the sensor's own noise (default 0 Hz).", "10 Hz")
     temperature: Quantity = _field(
@@ -281,7 +293,8 @@ class SensorTable(_Table):
     offset: Quantity = _field(
         "Output at the bottom of the span (at its middle when bipolar), such as an RTD's "
         "voltage at the lowest temperature measured (default 0 V). It counts in the ADC "
-        "input window and in the largest input reference noise acts on.",
+        "input window and in the largest input reference noise acts on. A current for a "
+        "current-output sensor.",
         "100 mV",
     )
     capacitance: Quantity = _field(
@@ -290,7 +303,9 @@ class SensorTable(_Table):
         "1 nF",
     )
     dark_current: Quantity = _field(
-        "A DC current through the sensor whose shot noise 2qI is counted.", "1 nA"
+        "A DC current through the sensor whose shot noise 2qI is counted (a photodiode's "
+        "dark current; default 0 A).",
+        "1 nA",
     )
     differential: bool | None = _field(
         "A balanced source: half the resistance in each leg, so each input's current noise "
@@ -403,18 +418,47 @@ class InvertingTable(StageTable):
     gbw: Quantity = _field("Gain-bandwidth product.", "10 MHz")
 
 
+class TransimpedanceTable(StageTable):
+    """A transimpedance amplifier after a current-output sensor: RF ∥ CF in the feedback."""
+
+    type: Literal["transimpedance"] = Field(description="Stage type.")
+    rf: Quantity = _field("Feedback resistor: the transimpedance, V/A.", "1 Mohm")
+    cf: Quantity = _field(
+        "Feedback capacitor across rf (omit for none); the signal bandwidth is 1/(2π·rf·cf).",
+        "2 pF",
+    )
+    en: Quantity = _field("Op-amp input voltage noise density, white part.", "10 nV/√Hz")
+    en_corner: Quantity = _field("1/f corner of en (default 0 Hz).", "100 Hz")
+    in_: Quantity = _field(
+        "Current noise of the inverting input (default 0 A/√Hz).", "1 fA/√Hz", alias="in"
+    )
+    in_corner: Quantity = _field("1/f corner of the current noise (default 0 Hz).", "10 Hz")
+    gbw: Quantity = _field("Gain-bandwidth product (ideal when omitted).", "10 MHz")
+    input_capacitance: Quantity = _field(
+        "The op amp's own input capacitance, common-mode plus differential (default 0 F); "
+        "it adds to the sensor's capacitance in the e_n noise gain.",
+        "4 pF",
+    )
+
+
 STAGE_MODELS: dict[str, type[StageTable]] = {
     "noninverting": NonInvertingTable,
     "amplifier": AmplifierTable,
     "rc_filter": RCFilterTable,
     "active_filter": ActiveFilterTable,
     "inverting": InvertingTable,
+    "transimpedance": TransimpedanceTable,
 }
 #: The stage types a design file knows.
 STAGE_TYPES = tuple(STAGE_MODELS)
 
 Stage = Annotated[
-    NonInvertingTable | AmplifierTable | RCFilterTable | ActiveFilterTable | InvertingTable,
+    NonInvertingTable
+    | AmplifierTable
+    | RCFilterTable
+    | ActiveFilterTable
+    | InvertingTable
+    | TransimpedanceTable,
     Field(discriminator="type"),
 ]
 

@@ -44,6 +44,7 @@ from ..chain.stages import (
     NonInvertingStage,
     RCFilter,
     Sensor,
+    TransimpedanceStage,
 )
 from ..errors import DesignError
 from ..units.formatting import format_percent, format_si
@@ -64,6 +65,7 @@ from .models import (
     RequirementTable,
     SensorTable,
     StageTable,
+    TransimpedanceTable,
 )
 from .structure import MissingField
 
@@ -270,16 +272,46 @@ class TableReader:
 # requirement, sensor and analog stages
 
 
+def _span(r: TableReader, value: Any, current: bool, path: str) -> float | None:
+    """The span, V, or A for a current-output sensor; a span of the other kind is named so."""
+    dimension, other = ("current", "voltage") if current else ("voltage", "current")
+    try:
+        parse_quantity(value, other, path)
+    except DesignError:
+        return r.q(value, dimension, path, minimum="> 0")
+    if current:
+        why = (
+            'a current span such as "10 µA": the sensor has a shunt_resistance, a current-output '
+            "sensor (give sensor.resistance instead for a voltage output)"
+        )
+    else:
+        why = (
+            'a voltage span such as "10 mV": a span in A is for a current-output sensor '
+            "(give sensor.shunt_resistance instead of sensor.resistance)"
+        )
+    r.bad(path, value, why)
+    return None
+
+
 def read_requirement(
-    r: TableReader, t: RequirementTable
+    r: TableReader, t: RequirementTable, current: bool = False
 ) -> tuple[Requirement | None, float | None]:
+    """The requirement and the span; ``current``: the sensor is a current source (spans in A)."""
     p = "requirement"
     span: float | None = None
     by_sensitivity = t.sensitivity is not None or t.excitation is not None
     if t.span is not None and by_sensitivity:
         r.bad(f"{p}.span", t.span, "either span, or sensitivity and excitation, not both")
+    elif current and by_sensitivity:
+        key = "sensitivity" if t.sensitivity is not None else "excitation"
+        r.bad(
+            f"{p}.{key}",
+            getattr(t, key),
+            'a span given as a current, such as span = "10 µA", for a current-output sensor '
+            "(sensor.shunt_resistance), not sensitivity and excitation",
+        )
     elif t.span is not None:
-        span = r.q(t.span, "voltage", f"{p}.span", minimum="> 0")
+        span = _span(r, t.span, current, f"{p}.span")
     elif by_sensitivity:
         s = r.q(t.sensitivity, "ratio_per_volt", f"{p}.sensitivity", required=True, minimum="> 0")
         e = r.q(t.excitation, "voltage", f"{p}.excitation", required=True, minimum="> 0")
@@ -382,7 +414,13 @@ def read_requirement(
         r.bad(f"{p}.coverage", t.coverage, coverage_problem(read))
         read = None
     coverage = DEFAULT_COVERAGE if read is None else read
-    interference = r.q(t.interference, "voltage", f"{p}.interference", minimum="≥ 0", default=0.0)
+    interference = r.q(
+        t.interference,
+        "current" if current else "voltage",
+        f"{p}.interference",
+        minimum="≥ 0",
+        default=0.0,
+    )
 
     extra = _requirement_extras(r, t, p)
     if span is None or (counts is None and dr is None) or interference is None or extra is None:
@@ -456,15 +494,38 @@ def _describe(t: RequirementTable, counts: float | None, form: str, coverage: fl
 
 
 def read_sensor(r: TableReader, t: SensorTable, span: float | None) -> Sensor | None:
+    """The sensor; with ``shunt_resistance`` a current source (its span read in A)."""
     p = "sensor"
-    resistance = r.q(t.resistance, "resistance", f"{p}.resistance", required=True, minimum="> 0")
+    current = t.shunt_resistance is not None
+    if current and t.resistance is not None:
+        r.bad(
+            f"{p}.shunt_resistance",
+            t.shunt_resistance,
+            "either resistance (a voltage-output sensor) or shunt_resistance (a current-output "
+            "sensor, such as a photodiode), not both",
+        )
+        return None
+    if t.resistance is None and not current:
+        r.missing(
+            f"{p}.resistance",
+            'a resistance such as "10 kΩ" (or shunt_resistance for a current-output sensor)',
+        )
+        return None
+    key = "shunt_resistance" if current else "resistance"
+    resistance = r.q(getattr(t, key), "resistance", f"{p}.{key}", required=True, minimum="> 0")
     noise = None
     if t.noise_density is not None or t.noise_corner is not None:
         noise = r.density(
-            t.noise_density, t.noise_corner, p, "noise_density", "noise_corner", required=True
+            t.noise_density,
+            t.noise_corner,
+            p,
+            "noise_density",
+            "noise_corner",
+            "current_density" if current else "voltage_density",
+            required=True,
         )
     temperature = r.q(t.temperature, "temperature", f"{p}.temperature", minimum="> 0")
-    offset = r.q(t.offset, "voltage", f"{p}.offset", default=0.0)
+    offset = r.q(t.offset, "current" if current else "voltage", f"{p}.offset", default=0.0)
     capacitance = r.q(t.capacitance, "capacitance", f"{p}.capacitance", minimum="> 0")
     dark = r.q(t.dark_current, "current", f"{p}.dark_current", minimum="≥ 0", default=0.0)
     if span is None or resistance is None or offset is None or dark is None:
@@ -488,6 +549,7 @@ def read_sensor(r: TableReader, t: SensorTable, span: float | None) -> Sensor | 
         capacitance_f=capacitance,
         dark_current_a=dark,
         differential=bool(t.differential),
+        output="current" if current else "voltage",
     )
 
 
@@ -502,7 +564,44 @@ def read_stage(r: TableReader, i: int, t: StageTable) -> Any:
         return _rc_filter(r, p, name, t)
     if isinstance(t, InvertingTable):
         return _inverting(r, p, name, t)
+    if isinstance(t, TransimpedanceTable):
+        return _transimpedance(r, p, name, t)
     return _active_filter(r, p, name, t)
+
+
+def _transimpedance(r: TableReader, p: str, name: str, t: TransimpedanceTable) -> Any:
+    if t.open:
+        r.bad(
+            f"{p}.open", True, "a given transimpedance stage (the planner sizes amplifier stages)"
+        )
+        return None
+    rf = r.q(t.rf, "resistance", f"{p}.rf", required=True, minimum="> 0")
+    cf = r.q(t.cf, "capacitance", f"{p}.cf", minimum="> 0")
+    gbw = r.q(t.gbw, "frequency", f"{p}.gbw", minimum="> 0")
+    c_in = r.q(
+        t.input_capacitance, "capacitance", f"{p}.input_capacitance", minimum="≥ 0", default=0.0
+    )
+    en = r.density(t.en, t.en_corner, p, "en", "en_corner", required=True)
+    i_minus = NoiseDensity(0.0)
+    if t.in_ is not None or t.in_corner is not None:
+        i_minus = r.density(
+            t.in_, t.in_corner, p, "in", "in_corner", "current_density", required=True
+        )
+    if None in (rf, en, i_minus, c_in):
+        return None
+    if (t.cf is not None and cf is None) or (t.gbw is not None and gbw is None):
+        return None
+    return r.build(
+        p,
+        TransimpedanceStage,
+        name,
+        rf,
+        en,
+        i_minus,
+        cf_f=cf,
+        gbw_hz=gbw,
+        input_capacitance_f=c_in,
+    )
 
 
 def _inverting(r: TableReader, p: str, name: str, t: InvertingTable) -> Any:

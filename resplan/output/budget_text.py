@@ -47,8 +47,8 @@ __all__ = [
 ]
 
 
-def _v(value: float | None) -> str:
-    return "n/a" if value is None else format_si(value, "V")
+def _v(value: float | None, unit: str = "V") -> str:
+    return "n/a" if value is None else format_si(value, unit)
 
 
 def _hz(value: float | None) -> str:
@@ -214,7 +214,7 @@ def format_budget(
                 c.name,
                 c.stage,
                 c.kind,
-                format_si(c.rms_v, "V") + " rms",
+                format_si(c.rms_v, budget.sensor_unit) + " rms",
                 format_si(c.adc_rms_v, "V") + " rms",
                 format_percent(c.share),
             ]
@@ -224,7 +224,7 @@ def format_budget(
             "total",
             "",
             "",
-            format_si(budget.total_rms_v, "V") + " rms",
+            format_si(budget.total_rms_v, budget.sensor_unit) + " rms",
             format_si(budget.total_adc_rms_v, "V") + " rms",
             format_percent(1.0),
         ]
@@ -232,7 +232,7 @@ def format_budget(
     table = _table(rows, {3, 4, 5})
     rule = "  " + "-" * (len(table[0]) - 2)
     lines += [table[0], rule, *table[1:-1], rule, table[-1]]
-    lines.append(f"  gain from sensor to ADC input: {format_si(budget.gain, 'V/V')}")
+    lines.append(f"  gain from sensor to ADC input: {format_si(budget.gain, budget.gain_unit)}")
     lines.append("")
 
     lines.append("Resolution")
@@ -252,6 +252,7 @@ def format_budget(
     lines.append("")
 
     if req is not None:
+        unit = budget.sensor_unit
         lines.append("Requirement")
         want = (
             f"{format_bits(req.required_noise_free_bits)} noise-free "
@@ -262,11 +263,11 @@ def format_budget(
         allowed = [
             ["stated as", req.description or "(no description)"],
             ["needs", want],
-            ["allowed total", f"{_v(req.allowed_total_rms_v)} rms at the sensor"],
+            ["allowed total", f"{_v(req.allowed_total_rms_v, unit)} rms at the sensor"],
         ]
         if req.interference_rms_v:
-            allowed.append(["interference allowance", f"{_v(req.interference_rms_v)} rms"])
-            allowed.append(["allowed noise", f"{_v(req.allowed_noise_rms_v)} rms"])
+            allowed.append(["interference allowance", f"{_v(req.interference_rms_v, unit)} rms"])
+            allowed.append(["allowed noise", f"{_v(req.allowed_noise_rms_v, unit)} rms"])
         if eng is not None and eng["required_resolution"] is not None:
             allowed.append(["required step", _eng(eng["required_resolution"], eng["unit"])])
         allowed.append(

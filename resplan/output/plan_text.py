@@ -60,16 +60,17 @@ def format_plan(plan: Plan, design: Design, *, ascii_only: bool = False) -> str:
         if req.noise_free_counts is not None
         else f"{format_db(req.dynamic_range_db)} dynamic range"
     )
+    unit = design.sensor.unit  # every figure at the sensor: V, or A for a current output
     rows = [
         ["stated as", req.description or needs],
-        ["allowed total", f"{format_si(plan.allowed_total_rms_v, 'V')} rms ({needs})"],
+        ["allowed total", f"{format_si(plan.allowed_total_rms_v, unit)} rms ({needs})"],
     ]
     if plan.interference_rms_v:
-        rows.append(["interference allowance", f"{format_si(plan.interference_rms_v, 'V')} rms"])
+        rows.append(["interference allowance", f"{format_si(plan.interference_rms_v, unit)} rms"])
     rows += [
-        ["allowed noise", f"{format_si(plan.allowed_noise_rms_v, 'V')} rms"],
-        ["fixed parts", f"{format_si(plan.fixed_rms_v, 'V')} rms"],
-        ["left for open parts", f"{format_si(plan.remaining_rms_v, 'V')} rms"],
+        ["allowed noise", f"{format_si(plan.allowed_noise_rms_v, unit)} rms"],
+        ["fixed parts", f"{format_si(plan.fixed_rms_v, unit)} rms"],
+        ["left for open parts", f"{format_si(plan.remaining_rms_v, unit)} rms"],
     ]
     out += _table(rows, set())
     out.append("")
@@ -80,7 +81,7 @@ def format_plan(plan: Plan, design: Design, *, ascii_only: bool = False) -> str:
         for c in plan.fixed:
             share = c.rms_v**2 / allowed_sq if allowed_sq else math.inf
             rows.append(
-                [c.name, c.stage, c.kind, f"{format_si(c.rms_v, 'V')} rms", format_percent(share)]
+                [c.name, c.stage, c.kind, f"{format_si(c.rms_v, unit)} rms", format_percent(share)]
             )
         out += _table(rows, {3, 4})
         out.append("")
@@ -94,7 +95,7 @@ def format_plan(plan: Plan, design: Design, *, ascii_only: bool = False) -> str:
                     a.field_path,
                     f"{a.weight:g}",
                     format_percent(a.share),
-                    f"{format_si(a.rms_v, 'V')} rms",
+                    f"{format_si(a.rms_v, unit)} rms",
                     f"{format_si(a.adc_rms_v, 'V')} rms",
                 ]
             )

@@ -24,11 +24,11 @@ __all__ = ["format_figure", "failure_rows", "verdict_sentence"]
 
 
 def format_figure(value: float, unit: str) -> str:
-    """A failure's value or limit: V as rms, dB, a fraction as a percentage, else SI."""
+    """A failure's value or limit: V (or A) as rms, dB, a fraction as a percentage, else SI."""
     if value is None or (isinstance(value, float) and math.isnan(value)):
         return "not known"
-    if unit == "V":
-        return format_si(value, "V") + " rms"
+    if unit in ("V", "A"):
+        return format_si(value, unit) + " rms"
     if unit == "dB":
         return format_db(value)
     if unit == "":
