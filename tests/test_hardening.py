@@ -503,6 +503,23 @@ def _many_stages(count: int) -> str:
     return MINIMAL.replace("[[stages]]", _TINY_RC * count + "[[stages]]", 1)
 
 
+def test_a_long_ladder_is_band_limited_and_its_series_resistors_add():
+    # Forty RC poles take the sensor's transfer below 1e-300 inside the solver's table;
+    # that is a steep fall, not the flat end of an unbounded path. Johnson noise of
+    # resistors in series adds as one resistance (Nyquist 1928): 350 Ω + 40 · 10 Ω ahead
+    # of the 1 kΩ RC is a 750 Ω source. The ladder's 40 nF, a pole near 5 MHz, trims the
+    # far aliases of the 1.6 kHz RC by about f_c/f ≈ 3e-4, hence 1e-3.
+    from resplan.chain.budget import forward_budget
+    from resplan.designfile.load import loads_design
+
+    def thermal(text: str) -> float:
+        budget = forward_budget(loads_design(text, "d.toml").chain())
+        return sum(c.rms_v**2 for c in budget.contributions if c.kind == "thermal")
+
+    single = MINIMAL.replace('resistance = "350 ohm"', 'resistance = "750 ohm"')
+    assert thermal(_many_stages(40)) == pytest.approx(thermal(single), rel=1e-3)
+
+
 def test_a_thousand_stages_load_and_give_their_figures_in_one_pass():
     from resplan.designfile.load import loads_design
 

@@ -358,7 +358,25 @@ def transfer_table(circuit: ChainCircuit, f_low_hz: float) -> TransferTable:
         if np.any(moving):
             settled = float(f[int(np.flatnonzero(moving)[-1]) + 1])
     settled = min(max(settled, 10.0 * lo), float(f[-1]) / 1e3)
+    final = _sunk_slopes(log_power, final, live, step)
     return TransferTable(math.log(lo), step, log_power, final, live, float(f[-1]), settled)
+
+
+def _sunk_slopes(log_power: np.ndarray, final: np.ndarray, live: np.ndarray, step: float):
+    """Final slopes, a transfer that fell below the 1e-300 floor inside the table given
+    the slope of its last step above the floor (a ladder of many poles falls out of
+    double range; the floor's flat end is not its slope)."""
+    floor = math.log(_TINY)
+    sunk = np.flatnonzero(live & (log_power[:, -1] <= floor)) if log_power.size else []
+    if len(sunk) == 0:
+        return final
+    rows = log_power[sunk]
+    last = rows.shape[1] - 1 - np.argmax((rows > floor)[:, ::-1], axis=1)
+    pick = np.arange(len(sunk))
+    slope = (rows[pick, last] - rows[pick, np.maximum(last - 1, 0)]) / step
+    final = final.copy()
+    final[sunk] = np.where(last > 0, slope, floor / step)
+    return final
 
 
 # ---------------------------------------------------------------------------
