@@ -27,12 +27,13 @@ from typing import Any
 from ..chain.budget import Budget, Contribution, forward_budget
 from ..chain.design import Design
 from ..chain.signal_chain import Chain
-from ..chain.verdict import stated_interferers
+from ..chain.verdict import Failure, noise_exceeds, stated_interferers
 from ..errors import DesignError, DesignErrors
 from ..units.formatting import format_percent, format_si
 from .levers import Lever, find_levers
 from .limits import UNSUPPRESSED, PartRequirement, gain_limits, part_limits
 from .provisional import DEFAULT_FILTER, Slot, provisional_chain
+from .verdict_items import unallocated_failures
 
 
 def _v(value: float) -> str:
@@ -100,6 +101,8 @@ class Plan:
     temperature_k: float
     f_low_hz: float
     output_rate_hz: float | None
+    #: Failures of the verdict items the plan does not allocate (the check's own records).
+    failures: tuple[Failure, ...] = ()
     limits: dict[str, dict[str, Any]] = field(default_factory=dict, repr=False, compare=False)
 
     def to_records(self, what: str = "requirements") -> list[dict[str, Any]]:
@@ -138,6 +141,7 @@ class Plan:
             "allocations": [a.__dict__.copy() for a in self.allocations],
             "requirements": [r.__dict__.copy() for r in self.requirements],
             "reasons": list(self.reasons),
+            "failures": [f.to_dict() for f in self.failures],
             "levers": [lever.__dict__.copy() for lever in self.levers],
             "assumptions": list(self.assumptions),
         }
@@ -243,7 +247,8 @@ def plan_design(
     found_levers: list[Lever] = []
     assumptions = list(assumptions)
     assumptions.extend(_standing_assumptions(design, fixed_budget))
-    feasible = remaining_var > 0
+    # Nothing open: the noise item is the check's own (the same slack).
+    feasible = remaining_var > 0 if slots else not noise_exceeds(math.sqrt(fixed_var), allowed)
     if req.interference_rms_v >= req.allowed_total_rms_v:
         reasons.append(
             f"the interference allowance ({_v(req.interference_rms_v)} rms) uses up the whole "
@@ -287,9 +292,9 @@ def plan_design(
                 f"{row.part} ({row.field_path}): no filter order up to 8 suppresses the stated "
                 f"interferer ({row.quantity}; {row.condition})"
             )
-    digital_reasons = _digital_path_reasons(design, chain)
-    reasons.extend(digital_reasons)
-    if digital_reasons or any(
+    failures = unallocated_failures(design, chain, fixed_budget, slots)
+    reasons.extend(f"{f.item}: {f.message}" for f in failures if f.item != "noise")
+    if failures or any(
         r.startswith("the ADC's noise needs") or "suppresses the stated interferer" in r
         for r in reasons
     ):
@@ -313,47 +318,9 @@ def plan_design(
         temperature_k=design.temperature_k,
         f_low_hz=band.f_low_hz,
         output_rate_hz=chain.output_rate_hz,
+        failures=failures,
         limits=limits,
     )
-
-
-def _digital_path_reasons(design: Design, chain) -> list[str]:
-    """Stated settling, per-channel rate and flatness that the given digital path alone breaks.
-
-    The conversion and digital path are never open parts, so what they fix cannot be
-    planned away: sinc^k settling (k output periods), the per-channel rate, and the
-    digital filter's own droop at the band top (an analog filter only adds to it).
-    """
-    from ..chain.passband import passband_droop
-    from ..chain.timing import digital_timing
-
-    req = design.requirement
-    out: list[str] = []
-    timing = digital_timing(chain)
-    if req.settling_time_s is not None and timing.settling_s is not None:
-        if timing.settling_s > req.settling_time_s * (1 + 1e-12):
-            out.append(
-                f"settling: the conversion and digital path settle in "
-                f"{format_si(timing.settling_s, 's')}, longer than the "
-                f"{format_si(req.settling_time_s, 's')} allowed"
-            )
-    if req.channel_rate_hz is not None and timing.channel_rate_hz is not None:
-        if timing.channel_rate_hz < req.channel_rate_hz * (1 - 1e-12):
-            out.append(
-                f"channel_rate: each of {timing.channels} channels gets "
-                f"{format_si(timing.channel_rate_hz, 'Hz')} of settled results, below the "
-                f"{format_si(req.channel_rate_hz, 'Hz')} required"
-            )
-    top = design.band.f_high_hz
-    if req.passband_flatness_db is not None and top is not None and chain.digital is not None:
-        digital_db = passband_droop(chain, top).digital_db
-        if abs(digital_db) > req.passband_flatness_db * (1 + 1e-12):
-            out.append(
-                f"passband_flatness: the digital filter alone is {digital_db:+.3f} dB at the "
-                f"band top {format_si(top, 'Hz')}, past the ±{req.passband_flatness_db:.3g} dB "
-                "allowed"
-            )
-    return out
 
 
 def _standing_assumptions(design: Design, budget: Budget) -> list[str]:
