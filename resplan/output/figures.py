@@ -185,7 +185,7 @@ def _density_figure(chain, budget: Budget, spectra) -> Figure:
     ax.set_xlim(spectra.edges_hz[0], spectra.edges_hz[-1])
     ax.set_xlabel("frequency")
     ax.xaxis.set_major_formatter(_rate_label)
-    ax.set_ylabel("noise density at the sensor (V/√Hz)")
+    ax.set_ylabel(f"noise density at the sensor ({budget.sensor_unit}/√Hz)")
     if spectra.quoted_top_hz < 0.9 * spectra.f_top_hz:
         ax.axvline(spectra.quoted_top_hz, color=GREY, linewidth=0.6, linestyle=(0, (2, 2)))
         ax.annotate(
@@ -267,7 +267,7 @@ def _cumulative_figure(budget: Budget, cumulative, spectra) -> Figure:
             linewidth=1.4,
             linestyle=(0, (2, 1)),
             label="folded from above the plotted range: "
-            + format_si(cumulative.remainder_rms_v, "V")
+            + format_si(cumulative.remainder_rms_v, budget.sensor_unit)
             + " rms",
         )
     ax.plot(
@@ -277,7 +277,7 @@ def _cumulative_figure(budget: Budget, cumulative, spectra) -> Figure:
         color="black",
         markersize=4,
         linestyle="none",
-        label="budget total: " + format_si(cumulative.total_rms_v, "V") + " rms",
+        label="budget total: " + format_si(cumulative.total_rms_v, budget.sensor_unit) + " rms",
     )
     allowed = budget.allowed_rms_v
     if allowed is not None and allowed > 0:
@@ -286,13 +286,13 @@ def _cumulative_figure(budget: Budget, cumulative, spectra) -> Figure:
             color=OKABE_ITO["vermillion"],
             linewidth=1.0,
             linestyle="--",
-            label="allowed noise: " + format_si(allowed, "V") + " rms",
+            label="allowed noise: " + format_si(allowed, budget.sensor_unit) + " rms",
         )
     ax.set_xlim(spectra.edges_hz[0], end_f * 1.5)
     ax.set_ylim(bottom=0)
     ax.set_xlabel("frequency")
     ax.xaxis.set_major_formatter(_rate_label)
-    ax.set_ylabel(f"rms noise at the sensor ({prefix}V)")
+    ax.set_ylabel(f"rms noise at the sensor ({prefix}{budget.sensor_unit})")
     legend(ax, loc="lower right")
     title(fig, FIGURE_TITLES["cumulative_noise"])
     set_caption(fig, "RMS of the noise below each frequency. " + cumulative.caption)
@@ -306,7 +306,8 @@ def _contributions_figure(budget: Budget) -> Figure:
     labels = [_label(c) for c in shown]
     shares = [100 * c.share for c in shown]
     colours = [KIND_COLOURS.get(c.kind, GREY) for c in shown]
-    texts = [f"{format_percent(c.share)}  ·  {format_si(c.rms_v, 'V')} rms" for c in shown]
+    unit = budget.sensor_unit
+    texts = [f"{format_percent(c.share)}  ·  {format_si(c.rms_v, unit)} rms" for c in shown]
     if rest:
         share = sum(c.share for c in rest)
         labels.append(f"{len(rest)} smaller sources")

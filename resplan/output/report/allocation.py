@@ -15,6 +15,7 @@ _BOUND_WORDS = {"max": "at most", "min": "at least", "info": ""}
 
 def allocation_section(w: Writer, design: Design, plan: Any, plan_note: str) -> list:
     out = [w.heading(SECTION_TITLES[2], 0)]
+    unit = design.sensor.unit  # figures at the sensor: V, or A for a current output
     if plan is None:
         out.append(w.p(plan_note or "The plan was not computed."))
         return out
@@ -23,7 +24,7 @@ def allocation_section(w: Writer, design: Design, plan: Any, plan_note: str) -> 
         out.append(
             w.p(
                 "Every part is given, so there is nothing to allocate: the forward budget in "
-                f"section 4 is the check, against {rms(plan.allowed_noise_rms_v)} of noise "
+                f"section 4 is the check, against {rms(plan.allowed_noise_rms_v, unit)} of noise "
                 "allowed at the sensor. Leave a part open in the design file to have the plan "
                 "size it."
             )
@@ -38,11 +39,11 @@ def allocation_section(w: Writer, design: Design, plan: Any, plan_note: str) -> 
         )
     )
     rows = [
-        ["Allowed total", rms(plan.allowed_total_rms_v)],
-        ["Interference allowance", rms(plan.interference_rms_v)],
-        ["Allowed noise", rms(plan.allowed_noise_rms_v)],
-        ["Fixed by given parts", rms(plan.fixed_rms_v)],
-        ["Left for the open parts", rms(plan.remaining_rms_v)],
+        ["Allowed total", rms(plan.allowed_total_rms_v, unit)],
+        ["Interference allowance", rms(plan.interference_rms_v, unit)],
+        ["Allowed noise", rms(plan.allowed_noise_rms_v, unit)],
+        ["Fixed by given parts", rms(plan.fixed_rms_v, unit)],
+        ["Left for the open parts", rms(plan.remaining_rms_v, unit)],
     ]
     out.append(w.p("All figures referred to the sensor.", w.small))
     out.append(w.table(rows, [55, 115], header=False, label_column=True))
@@ -52,7 +53,7 @@ def allocation_section(w: Writer, design: Design, plan: Any, plan_note: str) -> 
     if fixed:
         out.append(w.heading("Noise fixed by the given parts", 1))
         rows = [["Contributor", "Stage", "Kind", "RMS at sensor"]]
-        rows += [[c.name, c.stage, c.kind, rms(c.rms_v)] for c in fixed]
+        rows += [[c.name, c.stage, c.kind, rms(c.rms_v, unit)] for c in fixed]
         out.append(w.table(rows, [60, 50, 25, 35], align_right=(3,)))
     allocations = getattr(plan, "allocations", ()) or ()
     if allocations:
@@ -65,7 +66,7 @@ def allocation_section(w: Writer, design: Design, plan: Any, plan_note: str) -> 
                 a.field_path,
                 format(a.weight, ".3g"),
                 format_percent(a.share),
-                rms(a.rms_v),
+                rms(a.rms_v, unit),
                 rms(a.adc_rms_v),
             ]
             for a in allocations

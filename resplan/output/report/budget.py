@@ -14,6 +14,8 @@ from .writer import Writer
 
 def budget_section(w: Writer, design: Design, budget: Budget | None) -> list:
     out = [w.heading(SECTION_TITLES[3], 0)]
+    unit = design.sensor.unit  # at the sensor: V, or A for a current-output sensor
+    density = f"{unit}/√Hz"
     if budget is None:
         names = ", ".join(f"{p.field_path} ({p.kind})" for p in design.open_parts)
         out.append(
@@ -27,10 +29,10 @@ def budget_section(w: Writer, design: Design, budget: Budget | None) -> list:
     out.append(
         w.p(
             "Every contributor, largest first, with its stage and its id (the same in "
-            "check --json and from Python). RMS (V rms) over the chain's noise band, referred "
-            "to the sensor (RTI) and at the ADC input; share of the total noise power; white "
-            "density referred to the sensor and its 1/f corner where the source is a density; "
-            "the white noise bandwidth of its path.",
+            f"check --json and from Python). RMS ({unit} rms) over the chain's noise band, "
+            "referred to the sensor (RTI) and at the ADC input; share of the total noise power; "
+            "white density referred to the sensor and its 1/f corner where the source is a "
+            "density; the white noise bandwidth of its path.",
             w.small,
         )
     )
@@ -58,10 +60,10 @@ def budget_section(w: Writer, design: Design, budget: Budget | None) -> list:
             [
                 name,
                 c.kind,
-                format_si(c.rms_v, "V"),
+                format_si(c.rms_v, unit),
                 format_si(c.adc_rms_v, "V"),
                 format_percent(c.share),
-                "—" if c.density_v_per_rthz is None else format_si(c.density_v_per_rthz, "V/√Hz"),
+                "—" if c.density_v_per_rthz is None else format_si(c.density_v_per_rthz, density),
                 "—" if c.corner_hz is None else format_si(c.corner_hz, "Hz"),
                 "—" if c.noise_bandwidth_hz is None else format_si(c.noise_bandwidth_hz, "Hz"),
                 w.p(c.note, w.cell_grey) if c.note else "",
@@ -71,7 +73,7 @@ def budget_section(w: Writer, design: Design, budget: Budget | None) -> list:
         [
             "Total (root sum of squares)",
             "",
-            format_si(budget.total_rms_v, "V"),
+            format_si(budget.total_rms_v, unit),
             format_si(budget.total_adc_rms_v, "V"),
             format_percent(1.0),
             "",
@@ -91,8 +93,9 @@ def budget_section(w: Writer, design: Design, budget: Budget | None) -> list:
     )
     out.append(
         w.p(
-            f"Gain from the sensor to the ADC {format_si(budget.gain, 'V/V')}; ADC full-scale "
-            f"range {format_si(budget.adc_full_scale_v, 'V')}; reference: {budget.reference_note}.",
+            f"Gain from the sensor to the ADC {format_si(budget.gain, budget.gain_unit)}; ADC "
+            f"full-scale range {format_si(budget.adc_full_scale_v, 'V')}; "
+            f"reference: {budget.reference_note}.",
             w.small,
         )
     )

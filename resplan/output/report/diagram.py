@@ -31,15 +31,23 @@ def block_lines(part: Any) -> tuple[str, str, list[str]]:
     from ...chain.stages import (
         ActiveFilter,
         IntegratedAmplifier,
+        InvertingStage,
         NonInvertingStage,
         RCFilter,
         Reference,
         Sensor,
+        TransimpedanceStage,
     )
 
     if isinstance(part, OpenPart):
         return part.field_path, f"open {part.kind}", ["to be planned"]
     if isinstance(part, Sensor):
+        if part.output == "current":
+            shunt = f"R_sh {format_si(part.resistance_ohm, 'Ω')}"
+            if part.capacitance_f is not None:
+                shunt += f", C {format_si(part.capacitance_f, 'F')}"
+            lines = [f"span {format_si(part.span_v, 'A')}", shunt]
+            return "sensor", "current-output sensor", lines
         return (
             "sensor",
             "sensor",
@@ -48,6 +56,13 @@ def block_lines(part: Any) -> tuple[str, str, list[str]]:
                 f"R {format_si(part.resistance_ohm, 'Ω')}",
             ],
         )
+    if isinstance(part, TransimpedanceStage):
+        # The gain is R_f itself (V/A); the two parts that set the noise gain and the band.
+        lines = [f"R_f {format_si(part.rf_ohm, 'Ω')}"]
+        lines.append("no C_f" if part.cf_f is None else f"C_f {format_si(part.cf_f, 'F')}")
+        return "", "transimpedance stage", lines
+    if isinstance(part, InvertingStage):
+        return "", "inverting stage", [_gain(part.gain)]
     if isinstance(part, NonInvertingStage):
         return "", "op-amp stage", [_gain(part.gain)]
     if isinstance(part, IntegratedAmplifier):

@@ -24,10 +24,12 @@ def describe_part(part: Any) -> tuple[str, str, str]:
     from ...chain.stages import (
         ActiveFilter,
         IntegratedAmplifier,
+        InvertingStage,
         NonInvertingStage,
         RCFilter,
         Reference,
         Sensor,
+        TransimpedanceStage,
     )
 
     if isinstance(part, OpenPart):
@@ -40,15 +42,41 @@ def describe_part(part: Any) -> tuple[str, str, str]:
             "to be planned" + (f"; known: {known}" if known else ""),
         )
     if isinstance(part, Sensor):
+        current = part.output == "current"
         figures = (
-            f"span {format_si(part.span_v, 'V')} ({'bipolar' if part.bipolar else 'unipolar'}); "
-            f"source resistance {format_si(part.resistance_ohm, 'Ω')}"
+            f"span {format_si(part.span_v, part.unit)} "
+            f"({'bipolar' if part.bipolar else 'unipolar'}); "
+            f"{'shunt' if current else 'source'} resistance {format_si(part.resistance_ohm, 'Ω')}"
         )
+        if part.capacitance_f is not None:
+            figures += f"; capacitance {format_si(part.capacitance_f, 'F')}"
+        if part.dark_current_a:
+            figures += f"; dark current {format_si(part.dark_current_a, 'A')}"
         if part.noise is not None:
-            figures += f"; own noise {_density(part.noise, 'V/√Hz')}"
+            figures += f"; own noise {_density(part.noise, part.unit + '/√Hz')}"
         if part.temperature_k is not None:
             figures += f"; at {format_temperature(part.temperature_k)}"
-        return part.name, "sensor", figures
+        return part.name, "current-output sensor" if current else "sensor", figures
+    if isinstance(part, TransimpedanceStage):
+        figures = (
+            f"R_f {format_si(part.rf_ohm, 'Ω')} (gain {format_si(part.rf_ohm, 'V/A')}), "
+            f"C_f {'none' if part.cf_f is None else format_si(part.cf_f, 'F')}; "
+            f"e_n {_density(part.en, 'V/√Hz')}; i_n− {_density(part.in_minus, 'A/√Hz')}"
+        )
+        if part.input_capacitance_f:
+            figures += f"; input capacitance {format_si(part.input_capacitance_f, 'F')}"
+        if part.gbw_hz is not None:
+            figures += f"; GBW {format_si(part.gbw_hz, 'Hz')}"
+        return part.name, "transimpedance stage", figures
+    if isinstance(part, InvertingStage):
+        figures = (
+            f"gain {format_si(part.gain, 'V/V')} (RF {format_si(part.rf_ohm, 'Ω')}, R_in "
+            f"{format_si(part.rin_ohm, 'Ω')}); e_n {_density(part.en, 'V/√Hz')}; "
+            f"i_n− {_density(part.in_minus, 'A/√Hz')}"
+        )
+        if part.gbw_hz is not None:
+            figures += f"; GBW {format_si(part.gbw_hz, 'Hz')}"
+        return part.name, "inverting stage", figures
     if isinstance(part, NonInvertingStage):
         figures = (
             f"gain {format_si(part.gain, 'V/V')} (RF {format_si(part.rf_ohm, 'Ω')}, RG "

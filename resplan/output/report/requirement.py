@@ -22,13 +22,14 @@ from .writer import Writer, coverage_text, k_text, maybe_hz, rms
 
 def requirement_section(w: Writer, design: Design, budget: Budget | None, plan: Any) -> list:
     req = design.requirement
+    unit = design.sensor.unit  # V, or A for a current-output sensor
     out = [w.heading(SECTION_TITLES[1], 0), w.heading("The requirement", 1)]
-    swing = "bipolar, ±" + format_si(req.span_v / 2, "V") if design.sensor.bipolar else "unipolar"
+    swing = "bipolar, ±" + format_si(req.span_v / 2, unit) if design.sensor.bipolar else "unipolar"
     rows: list[list[Any]] = [
         ["Statement", req.description or "no statement given"],
         [
             "Sensor span",
-            f"{format_si(req.span_v, 'V')} peak to peak at the sensor output ({swing})",
+            f"{format_si(req.span_v, unit)} peak to peak at the sensor output ({swing})",
         ],
     ]
     if req.noise_free_counts is not None:
@@ -43,9 +44,12 @@ def requirement_section(w: Writer, design: Design, budget: Budget | None, plan: 
         rows.append(["Resolution required", f"{format_db(req.dynamic_range_db)} dynamic range"])
     rows += [
         ["Coverage", coverage_text(req.coverage, req.k_pp)],
-        ["Allowed total", rms(req.allowed_total_rms_v) + " at the sensor"],
-        ["Interference allowance", rms(req.interference_rms_v) + " at the sensor"],
-        ["Allowed noise", rms(req.allowed_noise_rms_v) + " at the sensor (in power, after it)"],
+        ["Allowed total", rms(req.allowed_total_rms_v, unit) + " at the sensor"],
+        ["Interference allowance", rms(req.interference_rms_v, unit) + " at the sensor"],
+        [
+            "Allowed noise",
+            rms(req.allowed_noise_rms_v, unit) + " at the sensor (in power, after it)",
+        ],
     ]
     out.append(w.table(rows, [55, 115], header=False, label_column=True))
 
@@ -92,7 +96,7 @@ def requirement_section(w: Writer, design: Design, budget: Budget | None, plan: 
         "Interference is not noise: mains pickup, RF rectification, ground loops and switching "
         "spurs are fixed by shielding, layout, filtering and grounding, not by the choice of "
         + (
-            f"parts. An allowance of {rms(req.interference_rms_v)} is reserved for them, "
+            f"parts. An allowance of {rms(req.interference_rms_v, unit)} is reserved for them, "
             "taken out of the budget in power."
             if req.interference_rms_v > 0
             else "parts. No allowance is reserved for them in this design."

@@ -67,13 +67,14 @@ def _requirement_line(design: Design) -> str:
             return f"{statement} ({bits})"
         target = (
             f"{format_counts(req.noise_free_counts)} noise-free counts ({bits}) over "
-            f"{format_si(req.span_v, 'V')}"
+            f"{format_si(req.span_v, design.sensor.unit)}"
         )
     else:
         if "dynamic range" in statement:
             return statement
         target = (
-            f"{format_db(req.dynamic_range_db)} dynamic range over {format_si(req.span_v, 'V')}"
+            f"{format_db(req.dynamic_range_db)} dynamic range over "
+            f"{format_si(req.span_v, design.sensor.unit)}"
         )
     return f"{statement} — {target}" if statement else target
 
@@ -154,6 +155,7 @@ def _passband_rows(judged: Any) -> list[list[str]]:
 
 def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any) -> list:
     req = design.requirement
+    at_sensor = design.sensor.unit  # V, or A for a current-output sensor
     judged = _judged(design, budget)
     out = [w.heading(SECTION_TITLES[0], 0), _verdict(w, budget, plan, judged)]
     out += _failures(w, judged)
@@ -169,7 +171,8 @@ def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any)
             [
                 "Noise-free resolution, sensor span",
                 f"{format_bits(b.noise_free_bits)} · "
-                f"{format_counts(b.noise_free_counts)} counts over {format_si(b.span_v, 'V')}",
+                f"{format_counts(b.noise_free_counts)} counts over "
+                f"{format_si(b.span_v, b.sensor_unit)}",
             ],
             ["Effective resolution, sensor span", format_bits(b.effective_bits)],
             [
@@ -182,9 +185,14 @@ def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any)
             ["ADC range used by the sensor span", format_percent(b.adc_range_used)],
             [
                 "Total noise",
-                f"{rms(b.total_rms_v)} at the sensor · {rms(b.total_adc_rms_v)} at the ADC input",
+                f"{rms(b.total_rms_v, at_sensor)} at the sensor · {rms(b.total_adc_rms_v)} at the "
+                "ADC input",
             ],
-            ["Allowed noise", f"{rms(b.allowed_rms_v)} at the sensor, {after_allowance(req)}"],
+            [
+                "Allowed noise",
+                f"{rms(b.allowed_rms_v, at_sensor)} at the sensor, "
+                f"{after_allowance(req, at_sensor)}",
+            ],
             [
                 "Margin",
                 f"{signed_bits(b.margin_bits)} of noise-free resolution "
@@ -201,7 +209,7 @@ def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any)
                 f"{format_db(b.dynamic_range_db)} (full-scale sine over the sensor span)",
             ],
             ["ADC alone", f"ENOB {format_bits(b.adc_enob)} (its own noise and quantisation)"],
-            ["Gain, sensor to ADC", format_si(b.gain, "V/V")],
+            ["Gain, sensor to ADC", format_si(b.gain, b.gain_unit)],
             [
                 "Band",
                 f"f_L = {format_si(b.f_low_hz, 'Hz')} (bounds the 1/f noise); top of the signal "
@@ -235,7 +243,8 @@ def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any)
             ["Forward budget", "not computed: the design has open parts (section 3 sizes them)"],
             [
                 "Allowed noise",
-                f"{rms(req.allowed_noise_rms_v)} at the sensor, {after_allowance(req)}",
+                f"{rms(req.allowed_noise_rms_v, at_sensor)} at the sensor, "
+                f"{after_allowance(req, at_sensor)}",
             ],
             ["Coverage", coverage_text(req.coverage, req.k_pp)],
             [
@@ -251,8 +260,11 @@ def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any)
         ]
         if plan is not None:
             rows += [
-                ["Fixed by given parts", rms(plan.fixed_rms_v) + " at the sensor"],
-                ["Left for the open parts", rms(plan.remaining_rms_v) + " at the sensor"],
+                ["Fixed by given parts", rms(plan.fixed_rms_v, at_sensor) + " at the sensor"],
+                [
+                    "Left for the open parts",
+                    rms(plan.remaining_rms_v, at_sensor) + " at the sensor",
+                ],
             ]
             if getattr(plan, "output_rate_hz", None):
                 rows.append(["Output data rate", format_si(plan.output_rate_hz, "Hz")])

@@ -183,8 +183,9 @@ class Writer:
 # --------------------------------------------------------------------------- numbers
 
 
-def rms(value: float) -> str:
-    return format_si(value, "V") + " rms"
+def rms(value: float, unit: str = "V") -> str:
+    """``value`` rms in ``unit``: V, or A at a current-output sensor."""
+    return format_si(value, unit) + " rms"
 
 
 def signed_bits(value: float) -> str:
@@ -204,9 +205,9 @@ def maybe_hz(value: float | None, none: str = "none given") -> str:
     return none if value is None else format_si(value, "Hz")
 
 
-def after_allowance(req: Any) -> str:
+def after_allowance(req: Any, unit: str = "V") -> str:
     if req.interference_rms_v > 0:
-        return f"after the interference allowance of {rms(req.interference_rms_v)}"
+        return f"after the interference allowance of {rms(req.interference_rms_v, unit)}"
     return "no interference allowance reserved"
 
 
