@@ -376,7 +376,7 @@ def test_noise_quoted_at_another_gain_is_refused(bridge_chain):
     with pytest.raises(ChainError) as info:
         forward_budget(chain)
     assert info.value.field == "adc.noise_gain" and info.value.value == 64.0
-    assert "1.00 V/V" in str(info.value)
+    assert "(1 V/V)" in str(info.value)
 
 
 def test_noise_at_the_adc_gain_is_accepted(bridge_chain):
@@ -396,7 +396,7 @@ def test_noise_table_without_the_data_rate_lists_the_rates(bridge_chain):
     with pytest.raises(ChainError) as info:
         forward_budget(bridge_chain(adc=_delta_sigma(table)))
     assert info.value.field == "adc.noise_table" and info.value.value == 10.0
-    assert "5, 20 Hz" in str(info.value)
+    assert "(5.00 Hz, 20.0 Hz)" in str(info.value)
 
 
 # --- bad input ---------------------------------------------------------------------------

@@ -104,15 +104,16 @@ def test_delta_sigma_limits_in_text_and_pdf_have_no_lsb(kickoff, tmp_path):
     adc_lines = [ln for ln in text.stdout.splitlines() if ln.strip().startswith("ADC ")]
     body = "\n".join(adc_lines)
     assert "LSB" not in body and "ENOB" not in body and "SNR" not in body
-    assert re.search(r"input-referred noise at 10\.0 Hz data rate, gain 1 +≤ 19\.0 µV rms", body)
-    assert re.search(r"peak-to-peak at 10\.0 Hz data rate, gain 1 +≤ 125 µV p-p", body)
+    at = r"at 10\.0 Hz data rate, gain 1 V/V +"
+    assert re.search(r"input-referred noise " + at + r"≤ 19\.0 µV rms", body)
+    assert re.search(r"peak-to-peak at 10\.0 Hz data rate, gain 1 V/V +≤ 125 µV p-p", body)
     pdf = tmp_path / "kickoff.pdf"
     made = runner.invoke(main, ["report", str(kickoff), "-o", str(pdf)])
     assert made.exit_code == 0, made.output
     reader = pypdf.PdfReader(str(pdf))
     words = re.sub(r"\s+", " ", " ".join(p.extract_text() for p in reader.pages))
     assert "LSB" not in words and "transition noise" not in words
-    assert "10.0 Hz data rate, gain 1 at most 19.0 µV rms" in words
+    assert "10.0 Hz data rate, gain 1 V/V at most 19.0 µV rms" in words
     assert "at most 125 µV p-p" in words
 
 

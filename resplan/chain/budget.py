@@ -66,7 +66,7 @@ from ..noise.physics import (
     noise_rms_to_snr,
     peak_to_peak_factor,
 )
-from ..units.formatting import format_si
+from ..units.formatting import format_number, format_percent, format_si
 from .converter import (
     InputNoiseDensity,
     NoiseAtRate,
@@ -587,8 +587,8 @@ def forward_budget(
     )
     if budget.adc_range_used > 1.0 + 1e-12:
         warnings.append(
-            f"the sensor span at the ADC is {budget.adc_range_used:.3g} of its full-scale range: "
-            "the ADC overloads; lower the gain"
+            f"the sensor span at the ADC is {format_percent(budget.adc_range_used)} of its "
+            "full-scale range: the ADC overloads; lower the gain"
         )
     outside = False
     window = chain.adc.input_window_v
@@ -712,7 +712,8 @@ def _reference_contribution(c: _Collector, chain: Chain, band: Band) -> None:
         name,
         "reference",
         peak_at_adc * sigma_ref / ref.voltage_v,
-        f"{sigma_ref * 1e6:.3g} µV rms at the reference, scaled by V_in/V_ref at the largest input",
+        f"{format_si(sigma_ref, 'V')} rms at the reference, scaled by V_in/V_ref at the largest "
+        "input",
         id=contribution_id("reference", "noise"),
     )
 
@@ -727,7 +728,7 @@ def _adc_contributions(c: _Collector, chain: Chain, band: Band, warnings: list[s
     noise = adc.noise
     post = chain.post_variance_factor()
     post_rms = math.sqrt(post)
-    after = "" if post == 1 else f", × {post_rms:.3g} by the digital post-filter"
+    after = "" if post == 1 else f", × {format_number(post_rms)} by the digital post-filter"
     adc_id = contribution_id("adc", "noise")
     own: float
     if isinstance(noise, NoiseAtRate | NoiseTable):
@@ -745,7 +746,7 @@ def _adc_contributions(c: _Collector, chain: Chain, band: Band, warnings: list[s
             adc.name,
             "adc",
             own,
-            f"{noise.lsb_rms:g} LSB rms" + after,
+            f"{format_si(noise.lsb_rms, 'LSB')} rms" + after,
             id=adc_id,
         )
     elif isinstance(noise, InputNoiseDensity):
@@ -826,7 +827,7 @@ def _jitter_contribution(
         f"(full span at the ADC), σ_j = {format_si(adc.aperture_jitter_s, 's')}"
     )
     if factor != 1.0:
-        note += f", × {math.sqrt(factor):.3g} by the digital post-filter"
+        note += f", × {format_number(math.sqrt(factor))} by the digital post-filter"
     c.at_adc(
         "aperture jitter",
         adc.name,

@@ -21,7 +21,7 @@ import numpy as np
 
 from ..errors import ChainError, DesignError
 from ..noise.physics import quantisation_noise_rms, snr_to_noise_rms
-from ..units.formatting import format_si
+from ..units.formatting import format_db, format_si
 from .stages import NoiseDensity, check_nonnegative, check_positive
 
 __all__ = [
@@ -122,9 +122,9 @@ class NoiseTable:
         for rate, rms in self.rows:
             if _same(rate, data_rate_hz):
                 return rms, f"table row at {format_si(rate, 'Hz')} data rate"
-        rates = ", ".join(f"{r:g}" for r, _ in self.rows)
+        rates = ", ".join(format_si(r, "Hz") for r, _ in self.rows)
         raise ChainError(
-            "adc.noise_table", data_rate_hz, f"a data rate listed in the table ({rates} Hz)"
+            "adc.noise_table", data_rate_hz, f"a data rate listed in the table ({rates})"
         )
 
 
@@ -155,7 +155,7 @@ class SnrNoise:
                 f"the chain's sample rate {format_si(sample_rate_hz, 'Hz')}",
             )
         return float(snr_to_noise_rms(self.snr_db, full_scale_range_v)), (
-            f"from SNR {self.snr_db:g} dB"
+            f"from SNR {format_db(self.snr_db)}"
         )
 
 

@@ -65,7 +65,7 @@ from ..noise.sections import (
     sallen_key_lowpass,
     sallen_key_parts,
 )
-from ..units.formatting import format_si
+from ..units.formatting import format_complex, format_number, format_si
 from .stages import (
     MAX_SECTION_Q,
     ActiveFilter,
@@ -531,7 +531,8 @@ def _filter_parts(stage: ActiveFilter, p: str, node_in: str, node_out: str) -> l
             parts += real_pole_parts(name, real_pole_resistance(f0, c), c, node, nxt, opamp)
         else:
             if section.q > MAX_SECTION_Q:
-                raise DesignError(f"sections[{k}].q", section.q, f"a section Q ≤ {MAX_SECTION_Q:g}")
+                limit = f"a section Q ≤ {format_number(MAX_SECTION_Q)}"
+                raise DesignError(f"sections[{k}].q", section.q, limit)
             gain, gain_left = gain_left, 1.0
             if stage.topology == "sallen-key":
                 values = sallen_key_lowpass(f0, section.q, gain, capacitor_f=c)
@@ -807,7 +808,7 @@ def check_circuit(circuit: ChainCircuit, band_top_hz: float | None = None) -> No
             p0 = bad[0] / (2 * math.pi)
             raise DesignError(
                 seg.where,
-                f"unstable: a pole at {p0.real:.4g}{p0.imag:+.4g}j Hz",
+                f"unstable: a pole at {format_complex(p0, 'Hz')}",
                 "a stable circuit (every pole in the left half-plane)",
             )
         if band_top_hz is None:

@@ -28,6 +28,7 @@ from ..units.formatting import (
     format_bits,
     format_counts,
     format_db,
+    format_number,
     format_percent,
     format_si,
     format_temperature,
@@ -166,7 +167,6 @@ def verdict_html(budget: Budget, judged: Verdict) -> str:
     )
 
 
-
 def resolution_rows(budget: Budget, name_db: bool = False) -> list[list[str]]:
     """The resolution table of a budget: a header row, then one row per figure.
 
@@ -200,6 +200,7 @@ def resolution_rows(budget: Budget, name_db: bool = False) -> list[list[str]]:
         ["dynamic range / SNR", span_db, adc_db],
     ]
 
+
 def budget_html(budget: Budget, judged: Verdict | None = None) -> str:
     """The budget as HTML: conditions, contributions (with ids), resolution, verdict.
 
@@ -218,8 +219,8 @@ def budget_html(budget: Budget, judged: Verdict | None = None) -> str:
     if budget.sensor_temperature_k != budget.temperature_k:
         temp += f"; sensor {format_temperature(budget.sensor_temperature_k)}"
     conditions = (
-        f"coverage {format_percent(budget.coverage, 4)} (k_pp = {budget.k_pp:.3g}); band "
-        f"f_low {_hz(budget.f_low_hz)}, top {_hz(budget.f_high_hz)}; output data rate "
+        f"coverage {format_percent(budget.coverage, 4)} (k_pp = {format_number(budget.k_pp)}); "
+        f"band f_low {_hz(budget.f_low_hz)}, top {_hz(budget.f_high_hz)}; output data rate "
         f"{_hz(budget.output_rate_hz)}; temperature {temp}; reference: {budget.reference_note}"
     )
     contributions = html_table(

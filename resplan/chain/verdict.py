@@ -43,7 +43,7 @@ from typing import TYPE_CHECKING, Any
 
 import numpy as np
 
-from resplan.units.formatting import format_percent
+from resplan.units.formatting import format_percent, format_si
 
 from .interference import Residue
 from .passband import Droop, passband_droop
@@ -323,7 +323,7 @@ def _flatness(
                 "dB",
                 f"the signal is {droop.total_db:+.3f} dB at the band top "
                 f"{_si(droop.frequency_hz, 'Hz')} ({droop.analog_db:+.3f} dB analog, "
-                f"{droop.digital_db:+.3f} dB digital), past the ±{limit:.3g} dB allowed",
+                f"{droop.digital_db:+.3f} dB digital), past the ±{format_si(limit, 'dB')} allowed",
             )
         )
 

@@ -36,7 +36,7 @@ from ..chain.stages import Reference
 from ..errors import DesignError
 from ..noise.bandwidth import DigitalPath
 from ..noise.responses import IdealLowpass, SincFilter
-from ..units.formatting import format_si
+from ..units.formatting import format_number, format_si
 from .models import AdcTable, DigitalTable, ReferenceTable, RequirementTable
 from .parts import TableReader, put_known
 
@@ -121,7 +121,9 @@ def _band_noise(r: TableReader, t: ReferenceTable, p: str, corner: float | None)
         k = r.pp_factor(t.pp_factor, p)
         rms = None if value is None or k is None else value / k
         if rms is not None:
-            r.notes.append(f"reference noise {t.noise_pp} p-p divided by the stated factor {k:g}")
+            r.notes.append(
+                f"reference noise {t.noise_pp} p-p divided by the stated factor {format_number(k)}"
+            )
     else:
         rms = r.q(t.noise, "voltage", f"{p}.noise", minimum="≥ 0")
     band = None
@@ -373,7 +375,7 @@ def _adc_noise(r: TableReader, t: AdcTable, gain: float | None) -> Any:
             r.missing(
                 f"{p}.noise_gain",
                 f"the gain the noise was quoted at (the ADC runs at gain "
-                f"{gain:g}; noise depends on it)",
+                f"{format_si(gain, 'V/V')}; noise depends on it)",
             )
             return None
         if t.noise_gain is not None and noise_gain is None:
@@ -386,7 +388,9 @@ def _adc_noise(r: TableReader, t: AdcTable, gain: float | None) -> Any:
         if value is None or at is None or (pp and k is None):
             return None
         if pp:
-            r.notes.append(f"ADC noise {t.noise_pp} p-p divided by the stated factor {k:g}")
+            r.notes.append(
+                f"ADC noise {t.noise_pp} p-p divided by the stated factor {format_number(k)}"
+            )
             value /= k
         return r.build(
             p, NoiseAtRate, value, at, noise_gain, bool(t.scale_with_rate), with_quantisation
@@ -403,7 +407,9 @@ def _adc_noise(r: TableReader, t: AdcTable, gain: float | None) -> Any:
         if any(a is None or b is None for a, b in rows) or (pp and k is None):
             return None
         if pp:
-            r.notes.append(f"ADC noise table in p-p divided by the stated factor {k:g}")
+            r.notes.append(
+                f"ADC noise table in p-p divided by the stated factor {format_number(k)}"
+            )
             rows = [(a, b / k) for a, b in rows]
         return r.build(p, NoiseTable, tuple(rows), noise_gain, with_quantisation)
     if form == "snr":
@@ -474,7 +480,8 @@ def read_digital(r: TableReader, t: DigitalTable | None, adc: Any) -> DigitalPat
                 f"{p}.decimation",
                 t.decimation,
                 f"a whole decimation ratio sample_rate / data_rate from 1 to {MAX_DECIMATION} "
-                f"(here {format_si(rate, 'Hz')} / {format_si(data_rate, 'Hz')} = {ratio:.6g})",
+                f"(here {format_si(rate, 'Hz')} / {format_si(data_rate, 'Hz')} = "
+                f"{format_number(ratio, digits=6)})",
             )
             return None
         stages.append(SincFilter(int(t.decimation[-1]), int(whole), rate))

@@ -39,6 +39,7 @@ from typing import Any
 
 from ..chain.tolerance import TEMPCO_REFERENCE_K, WORST_CASE_SIGMAS, Spread
 from ..errors import DesignError, DesignErrors
+from ..units.formatting import format_si, format_temperature
 from ..units.parse import DIMENSIONS, parse_any, parse_percent, parse_quantity
 
 __all__ = [
@@ -104,14 +105,14 @@ def _text_for(value: float, written: Any, unit_key: str) -> Any:
     value = float(value)
     # 15 significant digits: exact to 1e-15 and read back without float noise in notes.
     if unit_key == "K":
-        return f"{value:.15g} K"
+        return f"{value:.15g} K"  # number-format: reviewed (read back by the field's reader)
     if unit_key == "dB":
-        return f"{value:.15g} dB"
+        return f"{value:.15g} dB"  # number-format: reviewed (read back by the field's reader)
     unit = _unit_text(written)
     if not unit:
         return value
     factor, _ = parse_any(f"1 {unit}", "unit")
-    return f"{value / factor:.15g} {unit}"
+    return f"{value / factor:.15g} {unit}"  # number-format: reviewed (read back)
 
 
 def _read_spread(path: str, table: dict[str, Any]) -> tuple[Spread, Any]:
@@ -321,8 +322,8 @@ def split_spreads(
             written, unit = written_units[s.field]
             set_path(typical, s.field, _text_for(value, written, unit))
             notes.append(
-                f"{s.field}: {s.typical:.4g} {s.unit} at 25 °C scaled by its temperature "
-                f"coefficient to {value:.4g} {s.unit} at {t - 273.15:.4g} °C"
+                f"{s.field}: {format_si(s.typical, s.unit, 4)} at 25 °C scaled by its temperature "
+                f"coefficient to {format_si(value, s.unit, 4)} at {format_temperature(t)}"
             )
     return typical, tuple(spreads), yield_required, tuple(notes)
 

@@ -37,6 +37,7 @@ from dataclasses import dataclass, field
 from typing import Literal
 
 from ..errors import DesignError, ResplanError
+from ..units.formatting import format_number
 
 __all__ = [
     "BOLTZMANN_J_PER_K",
@@ -135,7 +136,7 @@ def _check_number(
     if not ok:
         relation = ">" if strict else "≥"
         finite = "" if allow_inf else "finite "
-        bound = "" if math.isinf(minimum) else f" {relation} {minimum:g}"
+        bound = "" if math.isinf(minimum) else f" {relation} {format_number(minimum)}"
         raise DesignError(f"{owner}.{attribute}", value, f"a {finite}number{bound} in {unit}")
 
 

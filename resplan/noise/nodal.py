@@ -44,7 +44,7 @@ import numpy as np
 from numpy.typing import ArrayLike
 
 from ..errors import DesignError
-from ..units.formatting import format_si
+from ..units.formatting import format_complex, format_si
 from .netlist import (
     GROUND,
     Capacitor,
@@ -661,7 +661,7 @@ def integrate_psd(
         raise DesignError(
             "band",
             (f_low_hz, f_high_hz),
-            f"f_low < f_high within the grid {f[0]:g}..{format_si(f[-1], 'Hz')}",
+            f"f_low < f_high within the grid {format_si(f[0], 'Hz')} to {format_si(f[-1], 'Hz')}",
         )
     lo, hi = max(lo, f[0]), min(hi, f[-1])
     inside = (f > lo) & (f < hi)
@@ -804,7 +804,7 @@ class Stability:
         if self.stable:
             return "stable: every pole in the left half-plane"
         bad = np.concatenate([self.right_half_plane, self.on_axis]) / (2.0 * np.pi)
-        listed = ", ".join(f"{z.real:.4g}{z.imag:+.4g}j Hz" for z in bad[:6])
+        listed = ", ".join(format_complex(z, "Hz") for z in bad[:6])
         return f"unstable or marginal: poles at {listed}"
 
 

@@ -31,6 +31,7 @@ from ..units.formatting import (
     format_bits,
     format_counts,
     format_db,
+    format_number,
     format_percent,
     format_si,
     format_temperature,
@@ -134,7 +135,7 @@ def engineering_figures(budget: Budget) -> dict[str, Any] | None:
 
 
 def _eng(value: float | None, unit: str) -> str:
-    return "n/a" if value is None else f"{value:.3g} {unit}"
+    return "n/a" if value is None else format_number(value, unit)
 
 
 def _table(rows: list[list[str]], right: set[int], indent: str = "  ") -> list[str]:

@@ -26,7 +26,7 @@ from typing import TYPE_CHECKING, Any
 
 from ..chain.budget import Budget
 from ..errors import DesignError
-from ..units.formatting import format_bits, format_percent, format_si, format_tick
+from ..units.formatting import format_bits, format_number, format_percent, format_si, format_tick
 from .atomic import write_bytes_atomic
 from .figure_style import (
     DASHES,
@@ -379,7 +379,7 @@ def _resolution_figure(budget: Budget, sweep) -> Figure:
     bits = sweep.noise_free_bits
     passes = sweep.passes_band
     by_rate = sweep.swept == SWEEP_DATA_RATE
-    k = format(sweep.k_pp, ".3g")
+    k = format_number(sweep.k_pp)
     coverage = format_percent(sweep.coverage)
     # Solid where both ends pass the signal band, dotted where either does not.
     for i in range(len(rates) - 1):
@@ -489,7 +489,7 @@ def _resolution_figure(budget: Budget, sweep) -> Figure:
 def _resolution_caption(sweep) -> str:
     from .spectra import SWEEP_DATA_RATE
 
-    k = format(sweep.k_pp, ".3g")
+    k = format_number(sweep.k_pp)
     if sweep.swept == SWEEP_DATA_RATE:
         text = (
             "Each point is a full forward budget of the chain at one of the converter's "

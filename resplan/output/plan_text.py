@@ -17,6 +17,7 @@ from ..units.formatting import (
     ascii_units,
     format_counts,
     format_db,
+    format_number,
     format_percent,
     format_si,
     format_temperature,
@@ -93,7 +94,7 @@ def format_plan(plan: Plan, design: Design, *, ascii_only: bool = False) -> str:
                 [
                     a.part,
                     a.field_path,
-                    f"{a.weight:g}",
+                    format_number(a.weight),
                     format_percent(a.share),
                     f"{format_si(a.rms_v, unit)} rms",
                     f"{format_si(a.adc_rms_v, 'V')} rms",

@@ -50,7 +50,7 @@ from ..errors import ChainError, DesignError
 from ..noise.bandwidth import DigitalPath
 from ..noise.physics import peak_to_peak_factor
 from ..noise.responses import IdealLowpass, SincFilter
-from ..units.formatting import format_si
+from ..units.formatting import format_number, format_percent, format_si
 
 __all__ = [
     "ContributorSpectrum",
@@ -519,7 +519,7 @@ def cumulative_noise(spectra: Spectra, budget: Budget) -> CumulativeNoise:
         else:
             remainder = math.sqrt(remainder_power)
             caption = (
-                f"The final step ({100 * remainder_power / total_power:.3g} % of the noise "
+                f"The final step ({format_percent(remainder_power / total_power)} of the noise "
                 "power) is noise from above the plotted range that sampling folds into "
                 "the band, or the tails of the analog responses; with it the curve ends "
                 "at the budget's total."
@@ -528,7 +528,7 @@ def cumulative_noise(spectra: Spectra, budget: Budget) -> CumulativeNoise:
         scale = math.sqrt(total_power / end)
         caption = (
             f"The unfolded integral exceeded the budget's total by "
-            f"{100 * (end / total_power - 1):.2g} % in power (grid error); the curve is "
+            f"{format_percent(end / total_power - 1, 2)} in power (grid error); the curve is "
             f"scaled by {scale:.4f} to end at the total."
         )
     rms = np.sqrt(running) * scale
@@ -760,6 +760,7 @@ def resolution_sweep(
         )
     slot = _averaging_slot(chain)
     floor = _MIN_RATE_OVER_F_LOW * band.f_low_hz
+    too_slow = f"output rate below {format_number(_MIN_RATE_OVER_F_LOW)} × f_L"
     points: list[ResolutionPoint] = []
     skipped: list[tuple[float, str]] = []
 
@@ -779,7 +780,7 @@ def resolution_sweep(
             if variant is None:
                 skipped.append((rate, why))
             elif variant.output_rate_hz < floor:
-                skipped.append((rate, f"output rate below {_MIN_RATE_OVER_F_LOW:g} × f_L"))
+                skipped.append((rate, too_slow))
             else:
                 add(variant, slot.count, rate)
         points.sort(key=lambda p: p.output_rate_hz)
@@ -796,7 +797,7 @@ def resolution_sweep(
                 add(chain, n, n)
                 continue
             if rate / n < floor:
-                skipped.append((n, f"output rate below {_MIN_RATE_OVER_F_LOW:g} × f_L"))
+                skipped.append((n, too_slow))
                 continue
             try:
                 variant = _with_averaging(chain, slot, n)

@@ -79,7 +79,7 @@ def _drivers(result: TrialResult) -> Figure | None:
     ax.grid(axis="y", visible=False)
     for yi, value in zip(y, shares, strict=True):
         ax.annotate(
-            f"{value:.3g} %" if abs(value) >= 1e-4 or value == 0 else "< 0.0001 %",
+            format_percent(value / 100.0),
             (value, yi),
             xytext=(3, 0),
             textcoords="offset points",

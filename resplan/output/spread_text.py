@@ -8,7 +8,14 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING, Any
 
-from ..units.formatting import ascii_units, format_bits, format_percent, format_si
+from ..units.formatting import (
+    ascii_units,
+    format_bits,
+    format_number,
+    format_percent,
+    format_si,
+    format_temperature,
+)
 
 if TYPE_CHECKING:  # pragma: no cover
     from ..chain.design import Design
@@ -28,8 +35,8 @@ __all__ = [
 
 def _value(value: float, unit: str) -> str:
     if unit == "K":
-        return f"{value - 273.15:.4g} °C"
-    return format_si(value, unit) if unit else f"{value:.4g}"
+        return format_temperature(value)
+    return format_si(value, unit) if unit else format_number(value, digits=4)
 
 
 def _yield_percent(fraction: float) -> str:

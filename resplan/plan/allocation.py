@@ -29,7 +29,7 @@ from ..chain.design import Design
 from ..chain.signal_chain import Chain
 from ..chain.verdict import Failure, noise_exceeds, stated_interferers
 from ..errors import DesignError, DesignErrors
-from ..units.formatting import format_percent, format_si
+from ..units.formatting import format_number, format_percent, format_si
 from .levers import Lever, find_levers
 from .limits import UNSUPPRESSED, PartRequirement, gain_limits, part_limits
 from .provisional import DEFAULT_FILTER, Slot, provisional_chain
@@ -326,7 +326,8 @@ def plan_design(
 def _standing_assumptions(design: Design, budget: Budget) -> list[str]:
     req = design.requirement
     out = [
-        f"coverage {format_percent(req.coverage)} (k_pp = {req.k_pp:.3f}) for noise-free figures",
+        f"coverage {format_percent(req.coverage)} (k_pp = {format_number(req.k_pp)}) for "
+        "noise-free figures",
         f"electronics at {design.temperature_k:.2f} K, "
         f"sensor at {budget.sensor_temperature_k:.2f} K",
         f"1/f noise integrated from f_low = {format_si(design.band.f_low_hz, 'Hz')} (about "
@@ -343,14 +344,15 @@ def _infeasible_reasons(fixed: tuple[Contribution, ...], fixed_var: float, allow
     total = math.sqrt(fixed_var)
     reasons = [
         f"the fixed parts alone give {_v(total)} rms at the sensor, "
-        f"{total / allowed:.3g} times the {_v(allowed)} rms allowed"
+        f"{format_number(total / allowed)} times the {_v(allowed)} rms allowed"
         if allowed > 0
         else "nothing is left for noise once the interference allowance is reserved"
     ]
     for c in fixed:
         if c.rms_v**2 >= 0.05 * fixed_var:
             reasons.append(
-                f"  {c.stage}: {c.name} {_v(c.rms_v)} rms ({c.rms_v**2 / fixed_var:.0%} of it)"
+                f"  {c.stage}: {c.name} {_v(c.rms_v)} rms "
+                f"({format_percent(c.rms_v**2 / fixed_var)} of it)"
             )
     return reasons
 

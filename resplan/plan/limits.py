@@ -18,7 +18,7 @@ from ..chain.stages import ActiveFilter, IntegratedAmplifier, NoiseDensity, NonI
 from ..noise.bandwidth import noise_bandwidth
 from ..noise.physics import BOLTZMANN_J_PER_K, enob_from_sinad, noise_rms_to_snr
 from ..noise.responses import AnalogLowpass
-from ..units.formatting import format_percent, format_si
+from ..units.formatting import format_number, format_percent, format_si
 from .provisional import Slot, signal_band_top
 
 __all__ = [
@@ -416,9 +416,12 @@ def _delta_sigma_rows(
     req = design.requirement
     k_pp = req.k_pp
     fsr = adc.full_scale_range_v
-    at = f"at {format_si(rate, 'Hz')} data rate, gain {adc.gain:g}"
+    at = f"at {format_si(rate, 'Hz')} data rate, gain {format_si(adc.gain, 'V/V')}"
     after = (
-        "" if post == 1 else f"; before the post-filter, which divides its power by {1 / post:.4g}"
+        ""
+        if post == 1
+        else "; before the post-filter, which divides its power by "
+        + format_number(1 / post, digits=4)
     )
     rows = [
         PartRequirement(
@@ -438,7 +441,7 @@ def _delta_sigma_rows(
             k_pp * at_rate,
             "V",
             "max",
-            f"k_pp = {k_pp:.3g} × rms, {format_percent(req.coverage, 4)} coverage of "
+            f"k_pp = {format_number(k_pp)} × rms, {format_percent(req.coverage, 4)} coverage of "
             "Gaussian noise",
             "σ_pp = k_pp · σ_ADC, k_pp = 2√2·erf⁻¹(P) (JCGM 100:2008)",
         ),
@@ -476,7 +479,8 @@ def _delta_sigma_rows(
                 math.log2(fsr / (k_pp * at_rate)),
                 "bits",
                 "min",
-                f"of the full-scale range {_v(fsr)} p-p, peak-to-peak noise at k_pp = {k_pp:.3g}",
+                f"of the full-scale range {_v(fsr)} p-p, peak-to-peak noise at "
+                f"k_pp = {format_number(k_pp)}",
                 "log2(FSR / (k_pp · σ_ADC))",
             ),
         ]
@@ -495,7 +499,10 @@ def _adc_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_p
         return rows, {"noise": NoiseAtRate(at_rate, rate)}
     snr = float(noise_rms_to_snr(at_rate, adc.full_scale_range_v)) if at_rate > 0 else math.inf
     after = (
-        "" if post == 1 else f" (before the post-filter, which divides its power by {1 / post:.4g})"
+        ""
+        if post == 1
+        else " (before the post-filter, which divides its power by "
+        + f"{format_number(1 / post, digits=4)})"
     )
     rows = [
         PartRequirement(
@@ -505,7 +512,7 @@ def _adc_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_p
             at_rate,
             "V",
             "max",
-            f"rms, quantisation included, gain {adc.gain:g}{after}",
+            f"rms, quantisation included, gain {format_si(adc.gain, 'V/V')}{after}",
             "σ_ADC = σ_share · G_total / √(post factor)",
         ),
         PartRequirement(

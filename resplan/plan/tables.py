@@ -16,7 +16,14 @@ import math
 from typing import TYPE_CHECKING, Any
 
 from ..chain.tables import html_table
-from ..units.formatting import format_bits, format_db, format_percent, format_si, format_temperature
+from ..units.formatting import (
+    format_bits,
+    format_db,
+    format_number,
+    format_percent,
+    format_si,
+    format_temperature,
+)
 from .limits import PartRequirement
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -53,10 +60,8 @@ def format_limit(row: PartRequirement) -> str:
         text = format_db(value)
     elif unit == "bits":
         text = format_bits(value)
-    elif unit in ("ppm", "LSB", "V/V"):
-        text = f"{value:.4g} {unit}"
-    elif unit == "":
-        text = f"{value:.0f}" if float(value).is_integer() else f"{value:.3g}"
+    elif unit in ("ppm", "LSB", "V/V", ""):
+        text = format_si(value, unit, 4)
     else:
         text = format_si(value, unit)
     return bound + text + amplitude_suffix(row)
@@ -135,7 +140,7 @@ def plan_html(plan: Plan) -> str:
     """The plan as HTML: budget, fixed contributions (with ids), allocation, limits, verdict."""
     esc = html.escape
     conditions = (
-        f"coverage {format_percent(plan.coverage, 4)} (k_pp = {plan.k_pp:.3g}); "
+        f"coverage {format_percent(plan.coverage, 4)} (k_pp = {format_number(plan.k_pp)}); "
         f"f_low {format_si(plan.f_low_hz, 'Hz')}; output data rate "
         + ("not stated" if plan.output_rate_hz is None else format_si(plan.output_rate_hz, "Hz"))
         + f"; temperature {format_temperature(plan.temperature_k)}"
@@ -175,7 +180,7 @@ def plan_html(plan: Plan) -> str:
             [
                 a.part,
                 a.field_path,
-                f"{a.weight:g}",
+                format_number(a.weight),
                 format_percent(a.share),
                 format_si(a.rms_v, "V"),
                 format_si(a.adc_rms_v, "V"),

@@ -94,6 +94,6 @@ def _digital_flatness(design: Design, chain: Chain) -> list[Failure]:
             limit,
             "dB",
             f"the digital filter alone is {digital_db:+.3f} dB at the band top "
-            f"{format_si(top, 'Hz')}, past the ±{limit:.3g} dB allowed",
+            f"{format_si(top, 'Hz')}, past the ±{format_si(limit, 'dB')} allowed",
         )
     ]

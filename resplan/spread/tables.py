@@ -15,7 +15,7 @@ import html
 from typing import TYPE_CHECKING, Any
 
 from ..chain.tables import budget_html, html_table
-from ..units.formatting import format_bits, format_percent, format_si
+from ..units.formatting import format_bits, format_number, format_percent, format_si
 
 if TYPE_CHECKING:  # pragma: no cover
     from .corner import Corner
@@ -79,7 +79,7 @@ def corner_html(corner: Corner) -> str:
     """The worst-case corner as HTML: each figure's adverse end, then its budget and verdict."""
     figures = html_table(
         ["figure", "end", "value (SI)"],
-        ([k, corner.ends.get(k, ""), f"{v:.6g}"] for k, v in corner.values.items()),
+        ([k, corner.ends.get(k, ""), format_number(v, digits=6)] for k, v in corner.values.items()),
         right=(2,),
         caption="Worst case: every spread at its adverse end",
     )

@@ -20,7 +20,10 @@ from decimal import ROUND_HALF_EVEN, Decimal
 
 __all__ = [
     "NO_PREFIX_UNITS",
+    "RATIO_UNITS",
     "format_si",
+    "format_number",
+    "format_complex",
     "format_db",
     "format_bits",
     "format_counts",
@@ -54,6 +57,14 @@ NO_PREFIX_UNITS: frozenset[str] = frozenset(
         "degF",
     }
 )
+
+#: Dimensionless ratios, written by :func:`format_number`'s rule: a whole
+#: number whole ("1 V/V", "500 V/V"), anything else to significant digits.
+RATIO_UNITS: frozenset[str] = frozenset({"", "V/V", "A/A"})
+
+# A value within this relative distance of a whole number is written whole
+# (a gain of 1 + 1e-15 after arithmetic is "1", not "1.00").
+_WHOLE_TOLERANCE = 1e-9
 
 # SI prefixes by power of ten (SI Brochure, 9th ed., BIPM 2019, Table 7).
 _PREFIXES = {
@@ -158,6 +169,8 @@ def format_si(value: float, unit: str, digits: int = 3) -> str:
         return "n/a"
     if math.isinf(value):
         return _join("-∞" if value < 0 else "∞", unit)
+    if unit in RATIO_UNITS:
+        return format_number(value, unit, digits)
     if unit in NO_PREFIX_UNITS or unit[:1] in ("1", "/"):
         return _join(_plain(value, digits), unit)
     if unit == "kg":  # prefixes go on the gram (SI Brochure 9th ed., 3)
@@ -173,6 +186,71 @@ def format_si(value: float, unit: str, digits: int = 3) -> str:
     sign = "-" if value < 0 else ""
     number = f"{sign}{scaled:.{max(digits - 1 - shift, 0)}f}"
     return f"{number} {_PREFIXES[engineering]}{unit}"
+
+
+def format_number(value: float, unit: str = "", digits: int = 3) -> str:
+    """Write a plain number (a gain, ratio, factor, Q or weight), never with a prefix.
+
+    One rule for every dimensionless number resplan prints: a whole number is
+    written whole ("1", "500 V/V", "1500 V/V"), grouped by thousands from
+    10,000 up ("16,384"; four digits stay together, as the SI Brochure, 9th ed.,
+    BIPM 2019, section 5.4.4 advises); anything else gets ``digits``
+    significant digits ("0.707", "2.50 V/V", "6.58"). Numbers below 1e-4 or
+    from 1e15 up keep an exponent.
+
+    Parameters
+    ----------
+    value : float
+        The number, dimensionless or in ``unit``.
+    unit : str, optional
+        Written after the number unchanged, such as ``"V/V"`` (default none).
+    digits : int, optional
+        Significant digits of a number that is not whole, at least 1 (default 3).
+
+    Examples
+    --------
+    >>> format_number(1.0, "V/V"), format_number(500, "V/V"), format_number(2.5, "V/V")
+    ('1 V/V', '500 V/V', '2.50 V/V')
+    >>> format_number(6.5792), format_number(0.70711), format_number(16384.0)
+    ('6.58', '0.707', '16,384')
+    >>> format_number(1 + 1e-15), format_number(1.778279, digits=4)
+    ('1', '1.778')
+    >>> format_number(-3.0), format_number(-0.0), format_number(1500.0)
+    ('-3', '0', '1500')
+    >>> format_number(float("nan")), format_number(float("inf"))
+    ('n/a', '∞')
+    """
+    _check_digits(digits)
+    value = float(value)
+    if math.isnan(value):
+        return "n/a"
+    if math.isinf(value):
+        return _join("-∞" if value < 0 else "∞", unit)
+    whole = round(value)
+    if abs(value) < 10.0**_FIXED_HIGH and abs(value - whole) <= _WHOLE_TOLERANCE * max(
+        1.0, abs(value)
+    ):
+        return _join(f"{whole:,d}" if abs(whole) >= 10_000 else str(whole), unit)
+    return _join(_plain(value, digits), unit)
+
+
+def format_complex(value: complex, unit: str, digits: int = 4) -> str:
+    """Write a complex value, such as a pole in Hz, as real and imaginary parts.
+
+    Each part gets its own engineering prefix; ``j`` marks the imaginary part.
+
+    Examples
+    --------
+    >>> format_complex(complex(1234.6, -5.0e6), "Hz")
+    '1.235 kHz - j 5.000 MHz'
+    >>> format_complex(complex(-20.0, 0.0), "Hz")
+    '-20.00 Hz'
+    """
+    real = format_si(value.real, unit, digits)
+    if value.imag == 0:
+        return real
+    sign = "-" if value.imag < 0 else "+"
+    return f"{real} {sign} j {format_si(abs(value.imag), unit, digits)}"
 
 
 def format_tick(value: float, unit: str) -> str:

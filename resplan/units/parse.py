@@ -43,6 +43,7 @@ from typing import TYPE_CHECKING, Any, NamedTuple
 
 from ..errors import DesignError
 from . import tables as unittables
+from .formatting import format_number
 from .ranges import RANGES, range_problem
 
 if TYPE_CHECKING:  # pragma: no cover
@@ -308,7 +309,7 @@ _NAME_FIXES = {"°C": "degC", "°F": "degF", "%": "percent", "rtHz": "(Hz**0.5)"
 
 def _exponent(value: float) -> str:
     if not math.isfinite(value) or abs(value) > _MAX_EXPONENT:
-        raise _Rejected(f"exponent {value:g} out of range")
+        raise _Rejected(f"exponent {format_number(value)} out of range")
     return f"**({value!r})" if value != int(value) else f"**({int(value)})"
 
 

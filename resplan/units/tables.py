@@ -132,7 +132,7 @@ def exact(value: float) -> Fraction:
     >>> exact(1e-3 * 1e-6), exact(5 / 9)
     (Fraction(1, 1000000000), Fraction(5, 9))
     """
-    rounded = Decimal(f"{value:.{_FACTOR_DIGITS}g}")
+    rounded = Decimal(f"{value:.{_FACTOR_DIGITS}g}")  # number-format: reviewed (exact arithmetic)
     if len(rounded.normalize().as_tuple().digits) <= _SHORT_DIGITS:
         return Fraction(rounded)
     as_fraction = Fraction(value)

@@ -6,7 +6,7 @@ from typing import Any
 
 from ...chain.design import Design
 from ...plan.tables import amplitude_suffix
-from ...units.formatting import format_percent, format_si
+from ...units.formatting import format_number, format_percent, format_si
 from .style import SECTION_TITLES
 from .writer import Writer, rms
 
@@ -64,7 +64,7 @@ def allocation_section(w: Writer, design: Design, plan: Any, plan_note: str) -> 
                 a.part,
                 a.kind,
                 a.field_path,
-                format(a.weight, ".3g"),
+                format_number(a.weight),
                 format_percent(a.share),
                 rms(a.rms_v, unit),
                 rms(a.adc_rms_v),

@@ -8,6 +8,16 @@ from ...chain.design import Design, OpenPart
 from ...units.formatting import format_counts, format_db, format_si, format_temperature
 from .writer import rms
 
+# The unit a known figure's key names by its suffix ("gbw_hz", "voltage_v").
+_KEY_UNITS = (("_hz", "Hz"), ("_v", "V"), ("gain", "V/V"))
+
+
+def _known_value(key: str, value: Any) -> str:
+    if not isinstance(value, float):
+        return str(value)
+    unit = next((u for suffix, u in _KEY_UNITS if key.endswith(suffix)), "")
+    return format_si(value, unit)
+
 
 def _density(nd: Any, unit: str) -> str:
     if nd is None:
@@ -33,9 +43,7 @@ def describe_part(part: Any) -> tuple[str, str, str]:
     )
 
     if isinstance(part, OpenPart):
-        known = "; ".join(
-            f"{k} = {v:g}" if isinstance(v, float) else f"{k} = {v}" for k, v in part.known.items()
-        )
+        known = "; ".join(f"{k} = {_known_value(k, v)}" for k, v in part.known.items())
         return (
             part.name,
             f"open {part.kind}",
@@ -171,7 +179,10 @@ def describe_adc_noise(adc: Any) -> str:
             "quantisation included."
         )
     if isinstance(n, TransitionNoise):
-        return f"transition noise {n.lsb_rms:g} LSB rms per sample; quantisation q/√12 added."
+        return (
+            f"transition noise {format_si(n.lsb_rms, 'LSB')} rms per sample; "
+            "quantisation q/√12 added."
+        )
     if isinstance(n, InputNoiseDensity):
         return (
             f"input-referred density {_density(n.density, 'V/√Hz')}, flat over the first "

@@ -9,7 +9,7 @@ from collections.abc import Sequence
 from typing import Any
 from xml.sax.saxutils import escape
 
-from ...units.formatting import ascii_units, format_bits, format_percent, format_si
+from ...units.formatting import ascii_units, format_bits, format_number, format_percent, format_si
 from .fonts import fonts
 from .style import GREY, INK, RULE, SHADE
 
@@ -194,7 +194,7 @@ def signed_bits(value: float) -> str:
 
 
 def k_text(k_pp: float) -> str:
-    return format(k_pp, ".3g")
+    return format_number(k_pp)
 
 
 def coverage_text(coverage: float, k_pp: float) -> str:
