@@ -45,6 +45,7 @@ from numpy.typing import ArrayLike
 
 from ..errors import DesignError
 from ..units.formatting import format_complex, format_si
+from .cascade import CASCADE_UNKNOWNS, solve_cascade
 from .netlist import (
     GROUND,
     Capacitor,
@@ -326,10 +327,21 @@ def _diagnose_singular(mna: MnaSystem, frequency_hz: np.ndarray) -> CircuitError
     )
 
 
-def _adjoint_solve(mna: MnaSystem, frequency_hz: np.ndarray, rhs: np.ndarray) -> np.ndarray:
-    """Solve (G + sC)ᵀ y = rhs on every frequency; returns y of shape (n, F)."""
+def _adjoint_solve(
+    mna: MnaSystem, frequency_hz: np.ndarray, rhs: np.ndarray, cascade: bool = True
+) -> np.ndarray:
+    """Solve (G + sC)ᵀ y = rhs on every frequency; returns y of shape (n, F).
+
+    A large system is solved as a cascade first (:mod:`resplan.noise.cascade`)."""
     n = mna.size
     gt, ct = mna.conductance.T, mna.capacitance.T
+    if cascade and n >= CASCADE_UNKNOWNS:
+        dense = lambda f: _adjoint_solve(mna, f, rhs, cascade=False)  # noqa: E731
+        y = solve_cascade(
+            np.ascontiguousarray(gt), np.ascontiguousarray(ct), frequency_hz, rhs, dense
+        )
+        if y is not None:
+            return y
     chunk = max(1, _CHUNK_ENTRIES // max(1, n * n))
     out = np.empty((frequency_hz.size, n), dtype=complex)
     for start in range(0, frequency_hz.size, chunk):
