@@ -18,13 +18,20 @@ from resplan import __version__
 from resplan.cli import main
 from resplan.designfile.examples import EXAMPLE_NAMES, example_text
 
-COMPLETE = ("hive-scale", "soil-temperature", "pipeline-vibration", "tank-pressure")
+COMPLETE = (
+    "hive-scale",
+    "soil-temperature",
+    "pipeline-vibration",
+    "tank-pressure",
+    "turbidity-photodiode",
+)
 #: The exit status each complete example is stated (in its first line) to give.
 EXPECTED_EXIT = {
     "hive-scale": 0,
     "soil-temperature": 0,
     "pipeline-vibration": 1,
     "tank-pressure": 1,
+    "turbidity-photodiode": 0,
 }
 
 #: Keys ``check --json`` promises, at least.

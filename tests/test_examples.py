@@ -25,7 +25,14 @@ from resplan.designfile.examples import (
 from resplan.designfile.load import check_design
 from resplan.output.budget_text import check_data, format_budget, verdict
 
-COMPLETE = ("hive-scale", "soil-temperature", "pipeline-vibration", "hive-spread", "tank-pressure")
+COMPLETE = (
+    "hive-scale",
+    "soil-temperature",
+    "pipeline-vibration",
+    "hive-spread",
+    "tank-pressure",
+    "turbidity-photodiode",
+)
 
 
 def contribution(budget, name):
@@ -153,3 +160,21 @@ def test_pipeline_vibration_against_scipy_and_ieee_1241():
     assert budget.dynamic_range_db == pytest.approx(dr, abs=1e-9)
     assert budget.adc_range_used == pytest.approx(10 * gain / fsr, rel=1e-12)
     assert budget.meets_requirement is False and budget.dynamic_range_db < 108
+
+
+def test_turbidity_photodiode_against_a_hand_budget():
+    # The INVENTED photodiode example: referred to the sensor everything is a current.
+    budget = check_design(load_example("turbidity-photodiode"))
+    assert budget.sensor_unit == "A" and budget.gain == pytest.approx(1e6)  # R_f, V/A
+    # Shot noise of the 2 µA full-scale photocurrent, √(2qI) (Schottky 1918; q from
+    # scipy.constants), over the 10 kHz digital band limit. 2 %: the analog path droops
+    # 0.6 dB at the band top and sampling folds a little noise from above 100 kHz.
+    shot = budget["sensor.signal_shot"]
+    assert shot.density_v_per_rthz == pytest.approx(math.sqrt(2 * constants.e * 2e-6), rel=1e-9)
+    assert shot.rms_v == pytest.approx(math.sqrt(2 * constants.e * 2e-6 * 10e3), rel=0.02)
+    # Thermal noise current of R_f, √(4kT/R) at 30 °C (Johnson 1928, Nyquist 1928), the same band.
+    rf = budget["stages[0].RF.thermal"]
+    assert rf.rms_v == pytest.approx(math.sqrt(4 * constants.k * 303.15 / 1e6 * 10e3), rel=0.02)
+    # Dynamic range = 20·log10((S/(2√2))/σ) for a full-scale sine over the 2 µA span.
+    expected_dr = 20 * math.log10(2e-6 / (2 * math.sqrt(2)) / budget.total_rms_v)
+    assert budget.dynamic_range_db == pytest.approx(expected_dr, rel=1e-12)

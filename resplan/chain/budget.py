@@ -664,7 +664,8 @@ def _circuit_contributions(c: _Collector, chain: Chain, band: Band) -> None:
         index = _stage_index(info.where)
         note = "solved with the whole front end (nodal analysis)"
         if info.source_id.startswith("sensor.thermal"):
-            note = f"√(4kTR) at {t_sensor:.2f} K, " + note
+            law = "√(4kT/R)" if chain.sensor.output == "current" else "√(4kTR)"
+            note = f"{law} at {t_sensor:.2f} K, " + note
         c.items.append(
             Contribution(
                 name=info.name,

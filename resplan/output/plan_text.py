@@ -128,7 +128,7 @@ def format_plan(plan: Plan, design: Design, *, ascii_only: bool = False) -> str:
         out.append("Assumptions")
         out += [f"  - {a}" for a in plan.assumptions]
         out.append("")
-    out.append(plan_verdict(plan))
+    out.append(plan_verdict(plan, design.sensor.unit))
     text = "\n".join(out)
     return ascii_units(text) if ascii_only else text
 
@@ -136,7 +136,9 @@ def format_plan(plan: Plan, design: Design, *, ascii_only: bool = False) -> str:
 def plan_data(plan: Plan, design: Design) -> dict[str, Any]:
     """The plan as plain data with stable keys (SI units), JSON-safe."""
     data = plan.to_dict()
-    data["verdict"] = plan_verdict(plan)
+    data["verdict"] = plan_verdict(plan, design.sensor.unit)
+    # A current-output sensor: every figure at the sensor (the *_rms_v keys) is in A.
+    data["sensor_unit"] = design.sensor.unit
     data["design"] = {
         "source": design.source,
         "sha256": design.sha256,

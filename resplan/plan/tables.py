@@ -80,12 +80,12 @@ def amplitude_suffix(row: PartRequirement) -> str:
     return " p-p" if "peak-to-peak" in row.quantity else " rms"
 
 
-def plan_verdict(plan: Plan) -> str:
-    """The one-line verdict of a plan."""
+def plan_verdict(plan: Plan, unit: str = "V") -> str:
+    """The one-line verdict of a plan; ``unit`` of figures at the sensor (A: a current output)."""
     if plan.feasible and not plan.allocations:
         return (
             "FEASIBLE: nothing is open; the given parts leave "
-            f"{format_si(plan.remaining_rms_v, 'V')} rms unused "
+            f"{format_si(plan.remaining_rms_v, unit)} rms unused "
             "(run `resplan check` for the margin)"
         )
     if plan.feasible:

@@ -30,6 +30,7 @@ EXAMPLE_NAMES: tuple[str, ...] = (
     "kickoff-bridge",
     "hive-spread",
     "tank-pressure",
+    "turbidity-photodiode",
 )
 #: What ``resplan init`` writes without ``--example``.
 DEFAULT_EXAMPLE = "hive-scale"
