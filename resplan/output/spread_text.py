@@ -151,7 +151,13 @@ def format_trials(result: TrialResult, design: Design, *, ascii_only: bool = Fal
         f"noise-free, {'meets' if result.worst_meets else 'does not meet'}"
     )
     how = (
-        "every trial solved with a full budget"
+        (
+            "every trial solved exactly: its front end batched as the forward budget solves "
+            f"it ({result.checks} trials held to full budgets within "
+            f"{format_percent(result.deviation)}), the rest by the factor model's closed-form laws"
+        )
+        if result.batched
+        else "every trial solved with a full budget"
         if result.exact
         else (
             f"factor model; {result.checks} trials solved exactly differ from it by at most "

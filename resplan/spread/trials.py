@@ -135,6 +135,8 @@ class TrialResult:
     required_bits: float | None
     histogram: tuple[tuple[float, ...], tuple[int, ...]]
     exact: bool = False
+    #: Every trial's front end solved in batches (:mod:`.exact`) rather than by full budgets.
+    batched: bool = False
 
     @property
     def yield_fraction(self) -> float:
@@ -188,6 +190,7 @@ class TrialResult:
                 "exact_trials": self.checks,
                 "max_relative_deviation": self.deviation,
                 "every_trial_exact": self.exact,
+                "front_end_batched": self.batched,
             },
             "seconds": self.seconds,
         }
@@ -216,8 +219,10 @@ def run_trials(
     progress : callable, optional
         Called with (done, total) after each chunk.
     exact : bool
-        Solve every trial with a full budget instead of the factor model (slow:
-        for checking the model).
+        Solve every trial exactly instead of through the factor model: the front end of
+        every trial solved and integrated as the forward budget does, batched
+        (:mod:`.exact`), or, for a design that path cannot reproduce, a full budget per
+        trial (slow).
     """
     if not 1 <= trials <= MAX_TRIALS:
         raise DesignError("--trials", trials, f"a number of trials from 1 to {MAX_TRIALS:,}")
@@ -244,13 +249,22 @@ def run_trials(
     has_requirement = bool(np.isfinite(model.base[m + 2]))
     headroom = getattr(budget.requirement, "headroom", 0.0) or 0.0
     range_limit = 1.0 - headroom  # the headroom item, or the range itself when none
+    engine = None
+    if exact:
+        from .exact import exact_trials
+
+        engine = exact_trials(model)
     done = 0
     while done < trials:
         n = min(chunk, trials - done)
         theta = sample(params, n, rngs)
         factors: list = []
         out = model.outputs(theta, factors)
-        if exact:
+        if engine is not None:
+            powers = engine.contribution_powers(theta, out[m + 1])
+            rows = engine.front_end_rows
+            out[rows] = powers[rows]
+        elif exact:
             _solve_exactly(model, theta, out)
         power = out[0].copy()
         for k in range(1, m):
@@ -322,14 +336,15 @@ def run_trials(
         required_yield=model.design.yield_required,
         coverage=budget.coverage,
         fixed_failures=model.fixed_failures,
-        deviation=model.deviation,
-        checks=model.checks,
+        deviation=model.deviation if engine is None else engine.deviation,
+        checks=model.checks if engine is None else engine.checks,
         seconds=time.perf_counter() - start,
         typical_noise_v=budget.total_rms_v,
         typical_bits=budget.noise_free_bits,
         required_bits=required_bits,
         histogram=(tuple(float(e) for e in edges), tuple(int(c) for c in counts)),
         exact=exact,
+        batched=engine is not None,
     )
 
 
