@@ -50,6 +50,7 @@ from ..chain.netlists import (
 )
 from ..noise.netlist import Capacitor, CurrentSource, OpAmp, Resistor
 from ..noise.nodal import build_mna
+from ..units.formatting import format_percent
 from .fold import FoldRules, fold_tables
 from .model import Law, SpreadModel, _fit, _probe_points
 
@@ -413,7 +414,7 @@ class ExactTrials:
                     worst = max(worst, abs(got / ref - 1.0) if ref else math.inf)
             self.deviation, self.checks = worst, checks
             if worst > EXACT_TOLERANCE:
-                raise Unsupported(f"deviates from full budgets by {worst:.1e}")
+                raise Unsupported(f"deviates from full budgets by {format_percent(worst)}")
 
     # -- per trial --------------------------------------------------------------
 
