@@ -27,10 +27,10 @@ from scipy.integrate import trapezoid  # numpy.trapezoid is numpy ≥ 2 only
 from spice_harness import require_ngspice, run_noise
 
 from resplan import ADC, Band, NoiseDensity, Sensor, TransitionNoise, forward_budget
+from resplan.chain.circuit_checks import check_circuit
 from resplan.chain.netlists import (
     POINTS_PER_DECADE,
     build_circuit,
-    check_circuit,
     transfer_table,
 )
 from resplan.chain.signal_chain import Chain

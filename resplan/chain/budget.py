@@ -67,6 +67,7 @@ from ..noise.physics import (
     peak_to_peak_factor,
 )
 from ..units.formatting import format_number, format_percent, format_si
+from .circuit_checks import check_circuit
 from .converter import (
     InputNoiseDensity,
     NoiseAtRate,
@@ -79,7 +80,6 @@ from .netlists import (
     UNBOUNDED_SLOPE,
     ChainCircuit,
     SourcePath,
-    check_circuit,
     circuit_of,
     transfer_table,
 )
@@ -636,7 +636,7 @@ def _stage_index(where: str) -> int | None:
 def _circuit_contributions(c: _Collector, chain: Chain, band: Band) -> None:
     """Every source of the analog front end, from the solved circuit (one contribution each)."""
     circuit = circuit_of(chain)
-    check_circuit(circuit, band.f_high_hz)
+    check_circuit(circuit, band.f_high_hz, chain)
     sources = circuit.sources
     if not sources:
         return

@@ -42,7 +42,6 @@ from ..noise.netlist import (
     BOLTZMANN_J_PER_K,
     GROUND,
     Capacitor,
-    CircuitError,
     CurrentNoise,
     CurrentSource,
     Netlist,
@@ -54,7 +53,7 @@ from ..noise.netlist import (
     VoltageNoise,
     VoltageSource,
 )
-from ..noise.nodal import build_mna, solve_noise
+from ..noise.nodal import solve_noise
 from ..noise.responses import AnalogLowpass
 from ..noise.sections import (
     filter_sections,
@@ -65,7 +64,7 @@ from ..noise.sections import (
     sallen_key_lowpass,
     sallen_key_parts,
 )
-from ..units.formatting import format_complex, format_number, format_si
+from ..units.formatting import format_number
 from .stages import (
     MAX_SECTION_Q,
     ActiveFilter,
@@ -87,7 +86,6 @@ __all__ = [
     "SourcePath",
     "build_circuit",
     "transfer_table",
-    "check_circuit",
     "circuit_of",
     "UNBOUNDED_SLOPE",
 ]
@@ -753,80 +751,6 @@ def build_circuit(
     if len(parts) > 1 or not segments:
         close(nodes, f"stages[{len(stages) - 1}]" if stages else "sensor")
     return ChainCircuit(tuple(segments))
-
-
-# ---------------------------------------------------------------------------
-# checks a design must pass
-
-
-def _poles_rad_per_s(net: Netlist) -> np.ndarray:
-    """Finite natural frequencies of a netlist, rad/s (numpy only).
-
-    With a shift σ₀ where G + σ₀C is regular, (G + sC)x = 0 becomes
-    Mx = x/(σ₀ − s) with M = (G + σ₀C)⁻¹C, so the eigenvalues μ ≠ 0 of M give the
-    poles s = σ₀ − 1/μ (the shift-and-invert form of the generalised eigenproblem;
-    Golub & Van Loan, *Matrix Computations*, §7.7, from memory).
-    """
-    mna = build_mna(net)
-    g, c = mna.conductance, mna.capacitance
-    if not np.any(c):
-        return np.zeros(0, dtype=complex)
-    scale = float(np.linalg.norm(g) / np.linalg.norm(c))
-    sigma = scale * (0.6180339887 + 0.3141592654j)
-    m = np.linalg.solve(g + sigma * c, c.astype(complex))
-    mu = np.linalg.eigvals(m)
-    finite = np.abs(mu) > 1e-9 * max(float(np.abs(mu).max()), 1e-300)
-    return sigma - 1.0 / mu[finite]
-
-
-def check_circuit(circuit: ChainCircuit, band_top_hz: float | None = None) -> None:
-    """Refuse a front end that is unstable or whose op amps run out of gain in the band.
-
-    Raises
-    ------
-    DesignError
-        ``<stage>.gbw`` when an op-amp's open-loop gain at the band top, GBW/f, is below
-        the stage's noise gain there (the closed loop cannot hold its gain), or
-        ``<stage>`` when the segment has a pole in the right half-plane.
-    CircuitError
-        Re-raised as a DesignError naming the stage when a segment is singular.
-    """
-    for seg in circuit.segments:
-        amps = [p for p in seg.netlist.parts if isinstance(p, OpAmp) and math.isfinite(p.gbw_hz)]
-        if not amps:
-            continue
-        try:
-            poles = _poles_rad_per_s(seg.netlist)
-        except (np.linalg.LinAlgError, CircuitError):
-            raise DesignError(
-                seg.where,
-                "singular circuit",
-                "a circuit whose every node is held (check the stage's parts)",
-            ) from None
-        bad = poles[poles.real > 1e-7 * np.abs(poles)]
-        if bad.size:
-            p0 = bad[0] / (2 * math.pi)
-            raise DesignError(
-                seg.where,
-                f"unstable: a pole at {format_complex(p0, 'Hz')}",
-                "a stable circuit (every pole in the left half-plane)",
-            )
-        if band_top_hz is None:
-            continue
-        f = np.array([band_top_hz * 1e-4])  # the asked (pass-band) gain
-        voltage_in = isinstance(seg.netlist.part(seg.netlist.signal_input), VoltageSource)
-        gain = np.sqrt(seg.power_transfers(f)[1])[0] if voltage_in else None
-        for amp in amps:
-            open_loop = amp.gbw_hz / band_top_hz
-            if gain is not None and open_loop < gain:
-                raise DesignError(
-                    f"{seg.where}.gbw",
-                    amp.gbw_hz,
-                    f"a gain-bandwidth product above {format_si(gain * band_top_hz, 'Hz')}: the "
-                    "stage's "
-                    f"gain {format_si(gain, 'V/V')} at the band top {format_si(band_top_hz, 'Hz')} "
-                    "needs it",
-                )
 
 
 def circuit_of(chain) -> ChainCircuit:
