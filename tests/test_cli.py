@@ -100,7 +100,7 @@ def test_check_examples_exit_as_stated(runner, tmp_path, name):
 def test_check_prints_engineering_units(runner, tmp_path):
     result = runner.invoke(main, ["check", write(tmp_path, "h.toml", example_text("hive-scale"))])
     assert "in g: noise" in result.stdout
-    assert "required step           10 g" in result.stdout
+    assert "required step           10.0 g" in result.stdout  # as the report writes it
 
 
 def test_verdict_line_format(runner, tmp_path):

@@ -30,6 +30,7 @@ from resplan.units.formatting import (
     format_bits,
     format_counts,
     format_db,
+    format_in_unit,
     format_percent,
     format_si,
     format_temperature,
@@ -169,9 +170,10 @@ def test_summary_page_states_verdict_margin_and_coverage(a4_report):
     assert f"noise-free figures at 99.9 % coverage, k_pp = {budget.k_pp:.3g}" in first
     for label in ("SNR", "Dynamic range", "Band", "Temperature", "Output data rate"):
         assert label in first
-    # In the measurand: the noise-free step at 200 kg / 10 mV.
+    # In the measurand: the noise-free step at 200 kg / 10 mV, in the unit as given
+    # (no prefix added: a unit such as "mbar" may carry one already).
     step = budget.k_pp * budget.total_rms_v * 200 / 10e-3
-    assert format_si(step, "kg") in first
+    assert format_in_unit(step, "kg") in first
 
 
 def test_assumptions_and_cautions_are_stated(a4_report):

@@ -106,6 +106,19 @@ def test_figures_are_vector_drawings(built):
         assert figure_pages and path_operations(reader, figure_pages[0]) > 500
 
 
+def test_summary_ends_on_page_one(built):
+    # The summary is one page: its last paragraph (the pointer to the cautions) is on
+    # page 1, so every row before it is too; page 2 holds none of its rows.
+    from resplan.output.report.safety import SUMMARY_CAUTION
+
+    _, _, _, reader = built
+    first, second = (re.sub(r"\s+", " ", p.extract_text()) for p in reader.pages[:2])
+    assert "1 Summary" in first
+    assert re.sub(r"\s+", " ", SUMMARY_CAUTION)[-60:] in first
+    for label in ("Noise margin", "Output data rate", "Dominant contributors"):
+        assert label not in second
+
+
 def test_every_page_carries_the_footer(built):
     design, _, _, reader = built
     total = len(reader.pages)

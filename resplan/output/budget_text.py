@@ -31,7 +31,7 @@ from ..units.formatting import (
     format_bits,
     format_counts,
     format_db,
-    format_number,
+    format_in_unit,
     format_percent,
     format_si,
     format_temperature,
@@ -135,7 +135,7 @@ def engineering_figures(budget: Budget) -> dict[str, Any] | None:
 
 
 def _eng(value: float | None, unit: str) -> str:
-    return "n/a" if value is None else format_number(value, unit)
+    return "n/a" if value is None else format_in_unit(value, unit)
 
 
 def _table(rows: list[list[str]], right: set[int], indent: str = "  ") -> list[str]:

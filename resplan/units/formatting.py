@@ -23,6 +23,7 @@ __all__ = [
     "RATIO_UNITS",
     "format_si",
     "format_number",
+    "format_in_unit",
     "format_complex",
     "format_db",
     "format_bits",
@@ -231,6 +232,27 @@ def format_number(value: float, unit: str = "", digits: int = 3) -> str:
         1.0, abs(value)
     ):
         return _join(f"{whole:,d}" if abs(whole) >= 10_000 else str(whole), unit)
+    return _join(_plain(value, digits), unit)
+
+
+def format_in_unit(value: float, unit: str, digits: int = 3) -> str:
+    """Write a value in a unit as the user wrote it, adding no prefix.
+
+    For figures in the measurand's unit ("g", "mbar", "degC"): the unit may
+    carry a prefix already, so none is added ("0.0412 mbar", never "41.2 mmbar");
+    ``digits`` significant digits, as :func:`format_si` writes them.
+
+    Examples
+    --------
+    >>> format_in_unit(0.04123, "mbar"), format_in_unit(1.0, "mbar"), format_in_unit(6.08, "g")
+    ('0.0412 mbar', '1.00 mbar', '6.08 g')
+    """
+    _check_digits(digits)
+    value = float(value)
+    if math.isnan(value):
+        return "n/a"
+    if math.isinf(value):
+        return _join("-∞" if value < 0 else "∞", unit)
     return _join(_plain(value, digits), unit)
 
 

@@ -41,7 +41,9 @@ def document_control_section(w: Writer, design: Design) -> list:
     history = _history_rows(design)
     if history:
         out.append(w.heading("Revision history", 1))
-        out.append(w.table([["Revision", "Date", "Author", "Change"], *history], [20, 28, 40, 82]))
+        out.append(w.table(
+                [["Revision", "Date", "Author", "Change"], *history], [20, 28, 40, 82], compact=True
+            ))
     else:
         out.append(w.p("No revision is recorded ([meta] revision and [[meta.history]]).", w.small))
     return [KeepTogether(out)]

@@ -11,6 +11,7 @@ from ...units.formatting import (
     format_bits,
     format_counts,
     format_db,
+    format_in_unit,
     format_percent,
     format_si,
     format_temperature,
@@ -32,27 +33,33 @@ from .writer import (
 
 
 def title_block(w: Writer, design: Design) -> list:
-    from reportlab.platypus import Spacer
+    from reportlab.platypus import TableStyle
 
     meta = design.meta
     written, how = report_date(meta.date)
+
+    def label(text: str) -> Any:
+        return w.p(f"<b>{w.text(text)}</b>", w.cell, markup=True)
+
+    # Two facts a row where they are short, so that the summary keeps to page 1.
     rows = [
-        ["Project", meta.project or "—"],
-        ["Revision", meta.revision or "—"],
-        ["Author", meta.author or "—"],
-        ["Date", meta.date or "— (the design gives none)"],
-        ["Design file", design.source or "— (built in code)"],
+        [label("Project"), meta.project or "—", label("Revision"), meta.revision or "—"],
+        [label("Author"), meta.author or "—", label("Date"), meta.date or "— (none given)"],
+        [label("Design file"), design.source or "— (built in code)", "", ""],
         [
-            "SHA-256 of the design file",
+            label("SHA-256 of file"),
             w.p(design.sha256, w.mono) if design.sha256 else "not recorded (no design file)",
+            "",
+            "",
         ],
-        ["Written by", f"resplan {__version__} on {written} ({how})"],
+        [label("Written by"), f"resplan {__version__} on {written} ({how})", "", ""],
     ]
+    block = w.table(rows, [30, 70, 22, 48], header=False, compact=True)
+    block.setStyle(TableStyle([("SPAN", (1, r), (3, r)) for r in (2, 3, 4)]))
     return [
         w.p(meta.title or "Untitled design", w.title),
         w.p("Noise and resolution requirements appendix", w.subtitle),
-        w.table(rows, [45, 125], header=False, label_column=True),
-        Spacer(1, 10),
+        block,
     ]
 
 
@@ -126,11 +133,14 @@ def _failures(w: Writer, judged: Any) -> list:
 
 
 def _passband_rows(judged: Any) -> list[list[str]]:
+    """The band-top gain, settling and each interferer; an item "What fails" lists is
+    not repeated (its figure, limit and where it lands are in that table)."""
     rows: list[list[str]] = []
     if judged is None:
         return rows
+    failed = set(judged.failed_items)
     d, t = judged.droop, judged.timing
-    if d is not None:
+    if d is not None and "passband_flatness" not in failed:
         rows.append(
             [
                 "Gain at the band top",
@@ -138,7 +148,7 @@ def _passband_rows(judged: Any) -> list[list[str]]:
                 f"({d.analog_db:+.3f} dB analog, {d.digital_db:+.3f} dB digital)",
             ]
         )
-    if t is not None:
+    if t is not None and not failed & {"settling", "channel_rate"}:
         settle = "not known" if t.settling_s is None else format_si(t.settling_s, "s")
         per = "not known" if t.channel_rate_hz is None else format_si(t.channel_rate_hz, "Hz")
         rows.append(
@@ -149,6 +159,8 @@ def _passband_rows(judged: Any) -> list[list[str]]:
             ]
         )
     for r in judged.interference:
+        if r.item in failed:
+            continue
         rows.append([f"Interferer {r.item}", f"{r.name}: {residue_summary(r)}; lands {r.lands}"])
     return rows
 
@@ -162,27 +174,21 @@ def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any)
     rows: list[list[Any]] = [["Requirement", _requirement_line(design)]]
     if budget is not None:
         b = budget
+        # The verdict is the headline above; the margin is its own row below.
         rows += [
             [
-                "Verdict",
-                ("meets" if judged is None or judged.meets else "does not meet")
-                + f" the requirement; noise margin {signed_bits(b.margin_bits)}",
-            ],
-            [
-                "Noise-free resolution, sensor span",
-                f"{format_bits(b.noise_free_bits)} · "
+                "Resolution, sensor span",
+                f"noise-free {format_bits(b.noise_free_bits)} · "
                 f"{format_counts(b.noise_free_counts)} counts over "
-                f"{format_si(b.span_v, b.sensor_unit)}",
+                f"{format_si(b.span_v, b.sensor_unit)}; effective {format_bits(b.effective_bits)}",
             ],
-            ["Effective resolution, sensor span", format_bits(b.effective_bits)],
             [
-                "Noise-free resolution, ADC range",
-                f"{format_bits(b.noise_free_bits_adc_range)} · "
+                "Resolution, ADC range",
+                f"noise-free {format_bits(b.noise_free_bits_adc_range)} · "
                 f"{format_counts(b.noise_free_counts_adc_range)} counts over "
-                f"{format_si(b.adc_full_scale_v, 'V')}",
+                f"{format_si(b.adc_full_scale_v, 'V')}; effective "
+                f"{format_bits(b.effective_bits_adc_range)}",
             ],
-            ["Effective resolution, ADC range", format_bits(b.effective_bits_adc_range)],
-            ["ADC range used by the sensor span", format_percent(b.adc_range_used)],
             [
                 "Total noise",
                 f"{rms(b.total_rms_v, at_sensor)} at the sensor · {rms(b.total_adc_rms_v)} at the "
@@ -194,7 +200,7 @@ def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any)
                 f"{after_allowance(req, at_sensor)}",
             ],
             [
-                "Margin",
+                "Noise margin",
                 f"{signed_bits(b.margin_bits)} of noise-free resolution "
                 "(log2 of allowed over actual noise)",
             ],
@@ -209,7 +215,11 @@ def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any)
                 f"{format_db(b.dynamic_range_db)} (full-scale sine over the sensor span)",
             ],
             ["ADC alone", f"ENOB {format_bits(b.adc_enob)} (its own noise and quantisation)"],
-            ["Gain, sensor to ADC", format_si(b.gain, b.gain_unit)],
+            [
+                "Gain, sensor to ADC",
+                f"{format_si(b.gain, b.gain_unit)}; the sensor span uses "
+                f"{format_percent(b.adc_range_used)} of the ADC range",
+            ],
             [
                 "Band",
                 f"f_L = {format_si(b.f_low_hz, 'Hz')} (bounds the 1/f noise); top of the signal "
@@ -231,12 +241,13 @@ def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any)
             unit = req.engineering_unit
             per_v = req.engineering_per_volt
             text = (
-                f"noise {format_si(b.total_rms_v * per_v, unit)} rms; noise-free step "
-                f"{format_si(b.k_pp * b.total_rms_v * per_v, unit)} at k_pp = {k_text(b.k_pp)}"
+                f"noise {format_in_unit(b.total_rms_v * per_v, unit)} rms; noise-free step "
+                f"{format_in_unit(b.k_pp * b.total_rms_v * per_v, unit)} at k_pp = "
+                f"{k_text(b.k_pp)}"
             )
             if req.noise_free_counts:
                 step = req.span_v * per_v / req.noise_free_counts
-                text += f"; required step {format_si(step, unit)}"
+                text += f"; required step {format_in_unit(step, unit)}"
             rows.append(["In the measurand", text])
     else:
         rows += [
@@ -268,7 +279,7 @@ def summary_section(w: Writer, design: Design, budget: Budget | None, plan: Any)
             ]
             if getattr(plan, "output_rate_hz", None):
                 rows.append(["Output data rate", format_si(plan.output_rate_hz, "Hz")])
-    out.append(w.table(rows, [55, 115], header=False, label_column=True))
+    out.append(w.table(rows, [40, 130], header=False, label_column=True, compact=True))
     if budget is not None and budget.warnings:
         out.append(w.heading("Warnings from the budget:", 1))
         out += w.bullet_items(list(budget.warnings))

@@ -56,10 +56,10 @@ class Writer:
             keepWithNext=1,
         )
         self.title = ParagraphStyle(
-            "title", base, fontName=f["bold"], fontSize=18, leading=22, spaceAfter=2
+            "title", base, fontName=f["bold"], fontSize=17, leading=20, spaceAfter=2
         )
         self.subtitle = ParagraphStyle(
-            "subtitle", base, fontSize=10.5, leading=14, textColor=GREY, spaceAfter=10
+            "subtitle", base, fontSize=10.5, leading=14, textColor=GREY, spaceAfter=6
         )
         self.bullet = ParagraphStyle("bullet", base, leftIndent=10, bulletIndent=0, spaceAfter=2)
         self.mono = ParagraphStyle("mono", self.cell, fontName=f["mono"], fontSize=7)
@@ -122,8 +122,12 @@ class Writer:
         label_column: bool = False,
         font_size: float | None = None,
         row_height: float | None = None,
+        compact: bool = False,
     ):
-        """A table; str cells become paragraphs (they wrap), flowables pass through."""
+        """A table; str cells become paragraphs (they wrap), flowables pass through.
+
+        ``compact`` sets rows closer (the one-page summary).
+        """
         from reportlab.lib import colors
         from reportlab.lib.styles import ParagraphStyle
         from reportlab.platypus import Table, TableStyle
@@ -165,8 +169,8 @@ class Writer:
             ("VALIGN", (0, 0), (-1, -1), "TOP"),
             ("LEFTPADDING", (0, 0), (-1, -1), 3),
             ("RIGHTPADDING", (0, 0), (-1, -1), 3),
-            ("TOPPADDING", (0, 0), (-1, -1), 2),
-            ("BOTTOMPADDING", (0, 0), (-1, -1), 2.5),
+            ("TOPPADDING", (0, 0), (-1, -1), 1 if compact else 2),
+            ("BOTTOMPADDING", (0, 0), (-1, -1), 1.5 if compact else 2.5),
             ("LINEBELOW", (0, 0), (-1, -1), 0.25, colors.HexColor(RULE)),
         ]
         if header:
