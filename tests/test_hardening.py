@@ -540,23 +540,73 @@ def test_a_thousand_stages_load_and_give_their_figures_in_one_pass():
     assert elapsed < 2.0
 
 
-@pytest.mark.xfail(
-    strict=True,
-    reason="the noise-bandwidth integration of each stage's path still walks every later "
-    "stage (quadratic); the nodal solver is to replace it (benchmarks/bench_stages.py)",
-)
-def test_check_on_a_thousand_stages_in_under_a_second(tmp_path):
+def test_check_on_a_thousand_stages_ends_well_inside_a_hang_guard(tmp_path):
+    # The speed target (1,000 stages in under a second of work) is measured by
+    # benchmarks/bench_stages.py; this is only a generous guard against a hang or a
+    # return of quadratic work (that took minutes).
     path = tmp_path / "many.toml"
     path.write_text(_many_stages(MAX_STAGES - 1))
     try:
         done = subprocess.run(
             [sys.executable, "-m", "resplan", "check", str(path)],
             capture_output=True,
-            timeout=3.0,  # a second of work, and Python's start-up
+            text=True,
+            timeout=20.0,
         )
     except subprocess.TimeoutExpired:
-        raise AssertionError("check on 1,000 stages took over 3 s") from None
-    assert done.returncode in (0, 1)
+        raise AssertionError("check on 1,000 stages took over 20 s") from None
+    assert done.returncode == 0, done.stderr
+    assert "every figure: not evaluated" in done.stdout
+
+
+def test_the_work_of_a_budget_grows_linearly_with_the_stage_count(monkeypatch):
+    # Counted, not timed: the points at which the circuit is solved (unknowns × frequencies)
+    # and at which every source's path is read (sources × frequencies). Four times the
+    # stages must cost about four times the work (the table gains a decade or so as the
+    # ladder's highest pole rises), not sixteen.
+    from resplan.chain import netlists
+    from resplan.chain.budget import forward_budget
+    from resplan.designfile.load import loads_design
+    from resplan.noise import cascade
+
+    work = {"solve": 0, "paths": 0}
+    solve, read = cascade.solve_blocks, netlists.TransferTable.power_gain
+
+    def counted_solve(plan, s, rhs):
+        work["solve"] += plan.unknowns * s.size
+        return solve(plan, s, rhs)
+
+    def counted_read(self, frequency_hz, rows=slice(None)):
+        out = read(self, frequency_hz, rows)
+        work["paths"] += out.size
+        return out
+
+    monkeypatch.setattr(cascade, "solve_blocks", counted_solve)
+    monkeypatch.setattr(netlists.TransferTable, "power_gain", counted_read)
+    counts = {}
+    from resplan.chain import budget
+
+    for n in (60, 240):
+        for cached in (netlists.build_circuit, netlists.transfer_table, budget._path_bandwidths):
+            cached.cache_clear()
+        work.update(solve=0, paths=0)
+        forward_budget(loads_design(_many_stages(n), "many.toml").chain())
+        counts[n] = dict(work)
+    for what in ("solve", "paths"):
+        assert counts[60][what] > 0
+        assert 3.0 <= counts[240][what] / counts[60][what] <= 5.5, (what, counts)
+
+
+def test_what_to_improve_is_not_ranked_on_a_long_chain_and_says_why():
+    from resplan.designfile.load import loads_design
+    from resplan.spread.improve import MAX_FIGURE_STAGES, improvements
+
+    short = improvements(loads_design(_many_stages(3), "d.toml"))
+    assert len(short) > 3 and all(i.bits_gained is not None for i in short[:3])
+    long = improvements(loads_design(_many_stages(60), "d.toml"))
+    assert [i.label for i in long] == ["every figure"]
+    assert long[0].bits_gained is None and str(MAX_FIGURE_STAGES) in long[0].reason
+    assert "61 stages" in long[0].reason
 
 
 # --- found by the fuzz campaign (benchmarks/fuzz_campaign.py) -------------------------------

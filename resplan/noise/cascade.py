@@ -13,9 +13,10 @@ memory) then costs O(k·b³) per frequency for k levels of at most b unknowns: l
 in the number of stages, where a dense LU costs O(n³). Every frequency is handled at
 once by numpy; only the walk along the levels is a Python loop.
 
-No pivoting crosses blocks, so the solution is refined once with the same factors
-(Wilkinson 1963; Higham, *Accuracy and Stability of Numerical Algorithms*, 2nd ed.,
-ch. 12, from memory) and checked: a frequency whose normwise backward error
+No pivoting crosses blocks, so the solution is checked, refined once with the same
+factors where any frequency needs it (Wilkinson 1963; Higham, *Accuracy and Stability
+of Numerical Algorithms*, 2nd ed., ch. 12, from memory) and checked again: a frequency
+whose normwise backward error
 ‖r − Ay‖∞ / (‖A‖∞‖y‖∞ + ‖r‖∞) is above :data:`RESIDUAL_TOLERANCE`, or whose solution
 is not finite, is handed back to the caller, which solves it densely.
 
@@ -52,9 +53,9 @@ CASCADE_UNKNOWNS = 48
 _MAX_BLOCK_SHARE = 0.25
 #: Normwise backward error above which a frequency is solved again densely.
 RESIDUAL_TOLERANCE = 1e-12
-#: Complex entries of one stack of blocks per frequency chunk (2**20 entries = 16 MiB;
-#: about eight such stacks are alive at once).
-_CHUNK_ENTRIES = 2**20
+#: Complex entries of one stack of blocks per frequency chunk (2**21 entries = 32 MiB, a
+#: ladder of 1,000 stages on its whole table; about six such stacks are alive at once).
+_CHUNK_ENTRIES = 2**21
 
 
 class BlockPlan:
@@ -202,19 +203,32 @@ def solve_blocks(plan: BlockPlan, s: np.ndarray, rhs: np.ndarray) -> tuple[np.nd
             here = s[part]
             lower, upper = _at(plan.lower, here), _at(plan.upper, here)
             diagonal = _at(plan.diagonal, here)
-            diagonal = np.broadcast_to(diagonal, (k, here.size, b, b)).copy()
-            blocks = (lower, diagonal, upper)
-            lu = _factor(blocks)
-            x = _substitute(blocks, lu, np.broadcast_to(r, (k, here.size, b, 1)))
-            x = x + _substitute(blocks, lu, _residual(blocks, r, x))
-            left = np.abs(_residual(blocks, r, x)).max(axis=(0, 2, 3))
-            norm_a = np.max(plan.row_norm_real + np.abs(here)[:, None] * plan.row_norm_per_s, 1)
-            scale = norm_a * np.abs(x).max(axis=(0, 2, 3)) + np.abs(rhs).max()
-            finite = np.all(np.isfinite(x), axis=(0, 2, 3))
-            failed[part] = ~(finite & (left <= RESIDUAL_TOLERANCE * scale))
-            y[start : start + here.size, slots] = (
-                x[..., 0].transpose(1, 0, 2).reshape(here.size, -1)
-            )
+            diagonal = np.broadcast_to(diagonal, (k, here.size, b, b))
+            if b == 1:  # a ladder: scalar recurrences on contiguous rows
+                blocks = (lower[..., 0, 0], diagonal[..., 0, 0].copy(), upper[..., 0, 0])
+                r1 = r[..., 0, 0]
+                lu = _factor_scalar(blocks)
+                x = _substitute_scalar(blocks, lu, r1)
+                left = _residual(blocks, r1, x)
+                good = _accepted(plan, here, rhs, x[..., None], left[..., None])
+                if not good.all():
+                    x = x + _substitute_scalar(blocks, lu, left)
+                    left = _residual(blocks, r1, x)
+                    good = _accepted(plan, here, rhs, x[..., None], left[..., None])
+                x = x[..., None]
+            else:
+                blocks = (lower, diagonal.copy(), upper)
+                lu = _factor(blocks)
+                x = _substitute(blocks, lu, np.broadcast_to(r, (k, here.size, b, 1)))
+                left = _residual(blocks, r, x)
+                good = _accepted(plan, here, rhs, x[..., 0], left[..., 0])
+                if not good.all():
+                    x = x + _substitute(blocks, lu, left)
+                    left = _residual(blocks, r, x)
+                    good = _accepted(plan, here, rhs, x[..., 0], left[..., 0])
+                x = x[..., 0]
+            failed[part] = ~good
+            y[start : start + here.size, slots] = x.transpose(1, 0, 2).reshape(here.size, -1)
     return y[:, :n], failed
 
 
@@ -238,6 +252,15 @@ def solve_cascade(
     if np.any(failed):
         y[failed] = dense(frequency_hz[failed]).T
     return y.T
+
+
+def _accepted(plan: BlockPlan, s: np.ndarray, rhs: np.ndarray, x: np.ndarray, left) -> np.ndarray:
+    """Per frequency: x (k, F, b) finite and its residual ``left`` (k, F, b) small."""
+    # ‖A‖∞ ≤ max row sum of |a_real| + |s|·max row sum of |a_per_s| ≤ 2‖A‖∞.
+    norm_a = plan.row_norm_real.max() + np.abs(s) * plan.row_norm_per_s.max()
+    scale = norm_a * np.abs(x).max(axis=(0, 2)) + np.abs(rhs).max()
+    finite = np.all(np.isfinite(x), axis=(0, 2))
+    return finite & (np.abs(left).max(axis=(0, 2)) <= RESIDUAL_TOLERANCE * scale)
 
 
 def _at(pair: tuple[np.ndarray, np.ndarray], s: np.ndarray) -> np.ndarray:
@@ -284,6 +307,32 @@ def _factor(blocks: tuple[np.ndarray, np.ndarray, np.ndarray]):
     return inverses, factors
 
 
+def _factor_scalar(blocks: tuple[np.ndarray, np.ndarray, np.ndarray]):
+    """:func:`_factor` for 1 × 1 blocks, (k, F) arrays: the Thomas algorithm."""
+    lower, diagonal, upper = blocks
+    inverses = np.empty_like(diagonal)
+    factors = np.empty_like(diagonal)
+    inverses[0] = 1.0 / diagonal[0]
+    factors[0] = inverses[0] * upper[0]
+    for i in range(1, diagonal.shape[0]):
+        inverses[i] = 1.0 / (diagonal[i] - lower[i] * factors[i - 1])
+        factors[i] = inverses[i] * upper[i]
+    return inverses, factors
+
+
+def _substitute_scalar(blocks, lu, r: np.ndarray) -> np.ndarray:
+    """:func:`_substitute` for 1 × 1 blocks, (k, F) arrays."""
+    lower = blocks[0]
+    inverses, factors = lu
+    out = np.empty(inverses.shape, dtype=complex)
+    out[0] = inverses[0] * r[0]
+    for i in range(1, out.shape[0]):
+        out[i] = inverses[i] * (r[i] - lower[i] * out[i - 1])
+    for i in range(out.shape[0] - 2, -1, -1):
+        out[i] -= factors[i] * out[i + 1]
+    return out
+
+
 def _substitute(blocks, lu, r: np.ndarray) -> np.ndarray:
     """Solve with the block factors for right-hand columns r (k, F, b, 1); same shape out."""
     lower = blocks[0]
@@ -299,9 +348,10 @@ def _substitute(blocks, lu, r: np.ndarray) -> np.ndarray:
 
 
 def _residual(blocks, r: np.ndarray, x: np.ndarray) -> np.ndarray:
-    """r − A·x for every level at once, columns (k, F, b, 1)."""
+    """r − A·x for every level at once: columns (k, F, b, 1), or (k, F) for 1 × 1 blocks."""
     lower, diagonal, upper = blocks
-    out = r - _mul(diagonal, x)
-    out[1:] -= _mul(lower[1:], x[:-1])
-    out[:-1] -= _mul(upper[:-1], x[1:])
+    mul = np.multiply if x.ndim == 2 else _mul
+    out = r - mul(diagonal, x)
+    out[1:] -= mul(lower[1:], x[:-1])
+    out[:-1] -= mul(upper[:-1], x[1:])
     return out

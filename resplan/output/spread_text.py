@@ -65,7 +65,7 @@ def format_improvements(items: tuple[Improvement, ...], *, ascii_only: bool = Fa
     """What to improve first, ranked, one line each."""
     lines = ["What to improve first (each figure 10 % better, typical values, bits over the span):"]
     shown = [i for i in items if i.bits_gained is not None]
-    if not shown:
+    if not items:
         lines.append("  no figure the noise depends on was found")
     width = max((len(i.label) for i in shown), default=0)
     for i in shown:

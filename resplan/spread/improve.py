@@ -27,10 +27,15 @@ from ..chain.design import Design
 from ..errors import ResplanError
 from .model import exact_budget
 
-__all__ = ["Improvement", "improvements", "STEP"]
+__all__ = ["Improvement", "improvements", "STEP", "MAX_FIGURE_STAGES"]
 
 #: How much better each figure is made.
 STEP = 0.10
+#: What to improve is evaluated while figures × (stages + 1) stays at or under this.
+#: Each figure needs a budget of the whole chain, so the work grows as the square of a
+#: long chain's length; a chain of 30 stages (about 60 figures) stays under it, and a
+#: longer one is checked in linear time without the ranking (common practice, no source).
+MAX_FIGURE_STAGES = 2_000
 _SNR_STEP_DB = 20 * math.log10(1 / (1 - STEP))
 
 # (pattern on the field path, what it is, factor) — the first match wins.
@@ -93,9 +98,14 @@ class Improvement:
         }
 
 
-def _candidates(design: Design) -> list[tuple[str, tuple[str, ...], dict[str, float]]]:
+def _candidates(
+    design: Design, limit: float = math.inf
+) -> list[tuple[str, tuple[str, ...], dict[str, float]]]:
+    """The figures to improve, grouped; the search stops once more than ``limit`` are found."""
     groups: dict[str, tuple[str, list[str], dict[str, float]]] = {}
     for path, value in design.variant.fields():
+        if len(groups) > limit:
+            break
         for pattern, what, factor in _RULES:
             if not re.match(pattern, path):
                 continue
@@ -135,9 +145,17 @@ def improvements(design: Design) -> tuple[Improvement, ...]:
     """
     if design.variant is None:
         return ()
+    stages = len(design.chain().stages)
+    candidates = _candidates(design, limit=MAX_FIGURE_STAGES / (stages + 1))
+    if len(candidates) * (stages + 1) > MAX_FIGURE_STAGES:
+        reason = (
+            f"a chain of {stages} stages: each figure needs a budget of the whole chain, "
+            f"and the ranking is made while figures × (stages + 1) ≤ {MAX_FIGURE_STAGES}"
+        )
+        return (Improvement("every figure", (), None, None, reason),)
     base = exact_budget(design)
     found: list[Improvement] = []
-    for label, fields, values in _candidates(design):
+    for label, fields, values in candidates:
         try:
             budget = exact_budget(design, values)
         except ResplanError as err:
