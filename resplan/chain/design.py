@@ -26,9 +26,43 @@ __all__ = ["Meta", "Revision", "OpenPart", "Design", "PART_KINDS"]
 PART_KINDS: dict[str, tuple[str, ...]] = {
     # Front-end or driver amplifier, either model. ``gain`` known or open;
     # ``en_corner_hz`` and ``in_corner_hz`` are the 1/f corners assumed for the limits.
-    "amplifier": ("gain", "en_corner_hz", "in_corner_hz", "bandwidth_hz", "gbw_hz"),
-    # Anti-alias filter: response and any of order / cutoff known.
-    "filter": ("response", "order", "cutoff_hz", "gain"),
+    # ``rf_ohm`` and ``rg_ohm`` (a non-inverting stage whose resistors are chosen: their
+    # thermal noise is fixed, and i_n− flows in RF‖RG).
+    "amplifier": (
+        "gain",
+        "en_corner_hz",
+        "in_corner_hz",
+        "bandwidth_hz",
+        "gbw_hz",
+        "rf_ohm",
+        "rg_ohm",
+    ),
+    # Inverting stage: ``rin_ohm`` known; ``rf_ohm`` or ``gain`` known or open; the op
+    # amp's e_n, i_n and GBW are planned (a GBW stated is kept).
+    "inverting": ("gain", "rf_ohm", "rin_ohm", "en_corner_hz", "in_corner_hz", "gbw_hz"),
+    # Transimpedance stage: ``cf_f`` known, ``rf_ohm`` known or open; e_n, i_n and GBW
+    # planned.
+    "transimpedance": (
+        "rf_ohm",
+        "cf_f",
+        "input_capacitance_f",
+        "en_corner_hz",
+        "in_corner_hz",
+        "gbw_hz",
+    ),
+    # Anti-alias filter: response and any of order / cutoff known. With a ``topology``
+    # the filter is a circuit whose op amps' e_n, i_n and GBW are planned.
+    "filter": (
+        "response",
+        "order",
+        "cutoff_hz",
+        "gain",
+        "topology",
+        "capacitor_f",
+        "en_corner_hz",
+        "in_corner_hz",
+        "gbw_hz",
+    ),
     # Reference: voltage known, noise open.
     "reference": ("voltage_v", "filter_cutoff_hz", "noise_corner_hz"),
     # ADC: its range and rates known, its noise open.

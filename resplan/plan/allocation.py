@@ -33,6 +33,7 @@ from ..units.formatting import format_number, format_percent, format_si
 from .levers import Lever, find_levers
 from .limits import UNSUPPRESSED, PartRequirement, gain_limits, part_limits
 from .provisional import DEFAULT_FILTER, Slot, provisional_chain
+from .stage_limits import probe_paths
 from .verdict_items import unallocated_failures
 
 
@@ -239,6 +240,7 @@ def plan_design(
     w = _weights(slots, design, weights)
     band = design.band
     fixed_budget = forward_budget(chain, band, requirement=req, grid_points=grid_points)
+    probe_paths(design, chain, slots, band, grid_points)
     fixed = tuple(c for c in fixed_budget.contributions if c.rms_v > 0)
     fixed_var = sum(c.rms_v**2 for c in fixed)
     allowed = req.allowed_noise_rms_v
@@ -294,9 +296,15 @@ def plan_design(
             )
     failures = unallocated_failures(design, chain, fixed_budget, slots)
     reasons.extend(f"{f.item}: {f.message}" for f in failures if f.item != "noise")
-    if failures or any(
-        r.startswith("the ADC's noise needs") or "suppresses the stated interferer" in r
-        for r in reasons
+    stated = [r for slot in slots for r in slot.reasons]
+    reasons.extend(stated)
+    if (
+        failures
+        or stated
+        or any(
+            r.startswith("the ADC's noise needs") or "suppresses the stated interferer" in r
+            for r in reasons
+        )
     ):
         feasible = False
     return Plan(
@@ -363,9 +371,11 @@ def _infeasible_reasons(fixed: tuple[Contribution, ...], fixed_var: float, allow
 def realise(plan: Plan, design: Design) -> Chain:
     """The chain with every open part exactly at its planned limit.
 
-    Amplifiers get their maximum e_n and no current noise, filters their maximum
-    noise resistance, the reference its maximum density, the ADC its maximum
-    noise at its data rate. Its forward budget meets the requirement with zero margin.
+    Gain stages get their op amp's maximum e_n and no current noise, filters their
+    maximum noise resistance (or, built as a circuit, their op amps' maximum e_n), the
+    reference its maximum density, the ADC its maximum noise at its data rate. Its
+    forward budget meets the requirement with zero margin: every limit was solved
+    against the same circuit (:mod:`resplan.plan.stage_limits`).
     """
     chain, slots, _ = provisional_chain(design)
     stages = list(chain.stages)
@@ -374,13 +384,8 @@ def realise(plan: Plan, design: Design) -> Chain:
     for slot in slots:
         limit = plan.limits[slot.part.field_path]
         kind = slot.part.kind
-        if kind == "amplifier":
-            old = stages[slot.index]
-            stages[slot.index] = replace(old, input_noise=limit["en"])
-        elif kind == "filter":
-            stages[slot.index] = replace(
-                stages[slot.index], noise_resistance_ohm=limit["noise_resistance_ohm"]
-            )
+        if slot.index is not None:
+            stages[slot.index] = limit["stage"]
         elif kind == "reference":
             reference = replace(reference, noise=limit["noise"])
         elif kind == "adc":

@@ -7,19 +7,20 @@ Every conversion goes through the same noise bandwidths the forward budget uses
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass
 
 from ..chain.alias import allowed_residue, path_attenuation_db
 from ..chain.converter import NoiseAtRate
 from ..chain.design import Design, OpenPart
 from ..chain.resolution import sine_rms
 from ..chain.signal_chain import Chain
-from ..chain.stages import ActiveFilter, IntegratedAmplifier, NoiseDensity, NonInvertingStage
+from ..chain.stages import ActiveFilter, NoiseDensity
 from ..noise.bandwidth import noise_bandwidth
-from ..noise.physics import BOLTZMANN_J_PER_K, enob_from_sinad, noise_rms_to_snr
+from ..noise.physics import enob_from_sinad, noise_rms_to_snr
 from ..noise.responses import AnalogLowpass
 from ..units.formatting import format_number, format_percent, format_si
 from .provisional import Slot, signal_band_top
+from .rows import PartRequirement
+from .stage_limits import filter_noise_rows, first_gain_index, gain_stage_rows
 
 __all__ = [
     "PartRequirement",
@@ -38,136 +39,13 @@ def _ohm(value: float) -> str:
     return format_si(value, "Ω")
 
 
-@dataclass(frozen=True)
-class PartRequirement:
-    """A figure a part must meet, in the form data sheets quote.
-
-    ``value`` is SI in ``unit`` (format it with :func:`resplan.units.formatting.format_si`);
-    ``bound`` says whether it is a maximum, a minimum or information.
-    """
-
-    part: str
-    field_path: str
-    quantity: str
-    value: float
-    unit: str
-    bound: str
-    condition: str = ""
-    formula: str = ""
-
-
-def _path_bandwidth(chain: Chain, index: int, band, grid_points: int):
-    return noise_bandwidth(
-        chain.responses_from(index), chain.digital, band.f_low_hz, grid_points=grid_points
-    )
-
-
 def _band_text(nb) -> str:
     return f"white noise bandwidth {format_si(nb.white_hz, 'Hz')}"
 
 
-def _amplifier_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_points):
-    part = slot.part
-    i = slot.index
-    stage = chain.stages[i]
-    g_in = chain.gain_before(i)
-    nb = _path_bandwidth(chain, i, band, grid_points)
-    at_input = var * g_in**2
-    fc_e = part.known.get("en_corner_hz", 0.0)
-    fc_i = part.known.get("in_corner_hz", 0.0)
-    en_max = math.sqrt(at_input / (nb.white_hz + fc_e * nb.flicker))
-    r_seen = chain.resistance_seen_by(i)
-    e_for_current = math.sqrt(at_input / (nb.white_hz + fc_i * nb.flicker))
-    in_max = e_for_current / r_seen if r_seen > 0 else math.inf
-    role = "front end" if i == first_gain_index(chain) else "driver"
-    corner_text = f"1/f corner {format_si(fc_e, 'Hz')}" + (
-        "" if "en_corner_hz" in part.known else " (assumed: state it)"
-    )
-    rows = [
-        PartRequirement(
-            part.name,
-            part.field_path,
-            "white voltage noise e_n (current noise negligible)",
-            en_max,
-            "V/√Hz",
-            "max",
-            f"{corner_text}; {_band_text(nb)}",
-            "e_n = √(σ²·G_in² / (ENBW + f_c·K_1/f))",
-        ),
-    ]
-    if r_seen > 0:
-        rows += [
-            PartRequirement(
-                part.name,
-                part.field_path,
-                f"current noise i_n into {_ohm(r_seen)} (voltage noise negligible)",
-                in_max,
-                "A/√Hz",
-                "max",
-                f"1/f corner {format_si(fc_i, 'Hz')}"
-                + ("" if "in_corner_hz" in part.known else " (assumed: state it)")
-                + f"; {_band_text(nb)}",
-                "i_n = e_allowed / R_source",
-            ),
-            PartRequirement(
-                part.name,
-                part.field_path,
-                "e_n and i_n with half the share each",
-                en_max / math.sqrt(2),
-                "V/√Hz",
-                "max",
-                f"with i_n ≤ {format_si(in_max / math.sqrt(2), 'A/√Hz')}; "
-                f"optimum source resistance e_n/i_n = {_ohm(r_seen)}",
-                "each term σ²/2",
-            ),
-        ]
-    rows += [
-        PartRequirement(
-            part.name,
-            part.field_path,
-            "output noise density (as a " + role + ")",
-            en_max * stage.gain,
-            "V/√Hz",
-            "max",
-            f"at its output, gain {format_si(stage.gain, 'V/V')}; {_band_text(nb)}",
-            "e_out = e_n · G",
-        ),
-    ]
-    limit = {"en": NoiseDensity(en_max, fc_e), "gain": stage.gain, "bandwidth_hz": None}
-    if stage.responses:
-        limit["bandwidth_hz"] = stage.responses[0].cutoff_hz
-    return rows, limit
-
-
-def first_gain_index(chain: Chain) -> int | None:
-    for i, stage in enumerate(chain.stages):
-        if isinstance(stage, IntegratedAmplifier | NonInvertingStage):
-            return i
-    return None
-
-
 def _filter_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_points):
-    part = slot.part
-    i = slot.index
-    stage: ActiveFilter = chain.stages[i]
-    g_in = chain.gain_before(i)
-    nb = _path_bandwidth(chain, i, band, grid_points)
-    t = chain.temperature_k
-    r_max = var * g_in**2 / (4 * BOLTZMANN_J_PER_K * t * nb.white_hz)
-    rows = [
-        PartRequirement(
-            part.name,
-            part.field_path,
-            "equivalent noise resistance of the filter",
-            r_max,
-            "Ω",
-            "max",
-            f"thermal noise 4kTR at {t:.2f} K; {_band_text(nb)}",
-            "R = σ²·G_in² / (4kT·ENBW)",
-        )
-    ]
-    rows.extend(_alias_rows(part, stage, chain, design))
-    limit = {"noise_resistance_ohm": r_max, "filter": stage}
+    rows, limit = filter_noise_rows(slot, var, chain)
+    rows.extend(_alias_rows(slot.part, chain.stages[slot.index], chain, design))
     return rows, limit
 
 
@@ -582,17 +460,26 @@ def _no_room(slot: Slot, chain: Chain):
         "nothing is left for this part (see the reasons and levers)",
         "σ² = 0",
     )
+    if slot.index is not None:
+        noiseless = slot.stage()
+        if part.kind == "filter" and noiseless.topology is None:
+            return [row], {"noise_resistance_ohm": 0.0, "stage": noiseless}
+        return [row], {"en": NoiseDensity(0.0), "stage": noiseless, "stage_split": None}
     limit = {
-        "amplifier": {"en": NoiseDensity(0.0)},
-        "filter": {"noise_resistance_ohm": 0.0},
         "reference": {"noise": NoiseDensity(0.0)},
         "adc": {"noise": NoiseAtRate(0.0, chain.adc.output_rate_hz)},
     }[part.kind]
     return [row], limit
 
 
+def _gain_stage_rows(slot: Slot, var: float, chain: Chain, design: Design, band, grid_points):
+    return gain_stage_rows(slot, var, chain, design)
+
+
 _CONVERTERS = {
-    "amplifier": _amplifier_rows,
+    "amplifier": _gain_stage_rows,
+    "inverting": _gain_stage_rows,
+    "transimpedance": _gain_stage_rows,
     "filter": _filter_rows,
     "reference": _reference_rows,
     "adc": _adc_rows,
@@ -606,6 +493,7 @@ def gain_limits(slots, chain: Chain, design: Design, fixed, allowed: float, reas
         return []
     stage = chain.stages[i]
     name = stage.name
+    gain_unit = "V/A" if design.sensor.unit == "A" else "V/V"
     path = next((s.part.field_path for s in slots if s.index == i), f"stages[{i}]")
     g_in = chain.gain_before(i)
     others = chain.total_gain / stage.gain
@@ -618,7 +506,7 @@ def gain_limits(slots, chain: Chain, design: Design, fixed, allowed: float, reas
             path,
             "front-end gain the ADC range allows",
             g_max,
-            "V/V",
+            gain_unit,
             "max",
             f"sensor span {_v(design.sensor.span_v)} into "
             f"{format_si(chain.adc.full_scale_range_v, 'V')} "
@@ -638,7 +526,7 @@ def gain_limits(slots, chain: Chain, design: Design, fixed, allowed: float, reas
                 path,
                 "front-end gain the given later parts need",
                 g_min,
-                "V/V",
+                gain_unit,
                 "min",
                 "their noise alone fills the budget at this gain, everything else noiseless",
                 "G_min = σ_after / (√(σ² − σ_before²) · G_in)",
@@ -646,9 +534,9 @@ def gain_limits(slots, chain: Chain, design: Design, fixed, allowed: float, reas
         )
         if g_min > g_max * (1 + 1e-9):
             reasons.append(
-                f"the ADC's noise needs a front-end gain of at least {format_si(g_min, 'V/V')} but "
-                "the ADC "
-                f"range allows at most {format_si(g_max, 'V/V')}: a quieter ADC or a larger span"
+                "the ADC's noise needs a front-end gain of at least "
+                f"{format_si(g_min, gain_unit)} but the ADC range allows at most "
+                f"{format_si(g_max, gain_unit)}: a quieter ADC or a larger span"
             )
     return rows
 
