@@ -68,7 +68,7 @@ def transimpedance_flat_gbw_hz(
     --------
     >>> f = transimpedance_flat_gbw_hz(1e6, 1e-12, 99e-12)
     >>> round(f / 1e6, 2)  # ≈ C_T/(π·R_f·C_f²) = 31.8 MHz for C_in ≫ C_f
-    31.2
+    31.51
     """
     g_f = 1.0 / rf_ohm
     g_tot = g_f + (0.0 if math.isinf(shunt_ohm) else 1.0 / shunt_ohm)
