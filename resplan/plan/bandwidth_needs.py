@@ -124,8 +124,9 @@ def settle_gbw(design: Design, chain: Chain, slots: list[Slot]) -> None:
                 needs.append(
                     (
                         flatness_gbw_hz(noise_gain, top, req.passband_flatness_db),
-                        f"this stage alone within the stated ±{format_si(req.passband_flatness_db, 'dB')} "
-                        "flatness at the band top (single-pole closed loop)",
+                        "this stage alone within the stated "
+                        f"±{format_si(req.passband_flatness_db, 'dB')} flatness at the band top "
+                        "(single-pole closed loop)",
                         "GBW ≥ NG·f_top / √(10^(F/10) − 1)",
                     )
                 )
