@@ -132,3 +132,34 @@ def test_legend_height_grows_with_wrapped_lines():
     # Columns fill in order, the first taking the extra entry (matplotlib's layout).
     assert legend_height_in(short, ncols=2) == pytest.approx(2 * legend_height_in(["a"]))
     assert not re.search("…", wrap_label("word " * 30))
+
+
+def test_a_long_interferer_name_is_wrapped_not_cut_in_the_alias_figure():
+    # INVENTED: the tank-pressure example's pump pulsation renamed far past one line
+    # (the bar labels were once cut at 28 characters, silently).
+    from resplan.designfile.examples import example_text
+    from resplan.designfile.load import loads_design
+    from resplan.output.alias_figure import NAME_WRAP_CHARS
+
+    long_name = "invented pump pulsation coupled through the skid frame into the bridge cable"
+    text = example_text("tank-pressure").replace('"pump pulsation (invented)"', f'"{long_name}"')
+    design = loads_design(text, "tank-pressure.toml")
+    budget = forward_budget(design.chain(), design.band, requirement=design.requirement)
+    fig = alias_figures(design, budget)["alias"]
+    bars = fig.axes[1]
+    fig.canvas.draw()
+    labels = bars.get_yticklabels()
+    shown = [t.get_text() for t in labels]
+    assert long_name in [s.replace("\n", " ") for s in shown], shown
+    ours = next(s for s in shown if s.replace("\n", " ") == long_name)
+    assert "…" not in ours and ours.count("\n") >= 2
+    assert all(len(line) <= NAME_WRAP_CHARS for line in ours.split("\n"))
+    # Every label sits inside the figure: the left margin made room for the longest line.
+    box = fig.bbox
+    for label in labels:
+        extent = label.get_window_extent()
+        assert extent.x0 >= box.x0 - 1 and extent.y0 >= box.y0 - 1, (label.get_text(), extent)
+    # The whole name is in the SVG the report embeds, line by line.
+    texts = _svg_texts(fig)
+    for line in ours.split("\n"):
+        assert line in texts

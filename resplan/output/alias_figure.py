@@ -17,7 +17,17 @@ import math
 from typing import TYPE_CHECKING, Any
 
 from ..units.formatting import format_si, format_tick
-from .figure_style import GREY, OKABE_ITO, STYLE, WIDTH_IN, legend, set_caption, title
+from .figure_style import (
+    GREY,
+    OKABE_ITO,
+    STYLE,
+    WIDTH_IN,
+    legend,
+    set_caption,
+    text_width_in,
+    title,
+    wrap_label,
+)
 
 if TYPE_CHECKING:  # pragma: no cover
     from matplotlib.figure import Figure
@@ -27,6 +37,9 @@ if TYPE_CHECKING:  # pragma: no cover
 
 #: Title of the figure, by the name the report files it under.
 ALIAS_TITLE = "Interferers: where each lands after sampling, and what is left of it"
+#: An interferer's name in the bar labels wraps onto lines of at most this many
+#: characters; nothing is cut, the panel grows with the lines.
+NAME_WRAP_CHARS = 24
 
 
 def hz_tick(x: float, _pos=None) -> str:
@@ -57,13 +70,18 @@ def alias_figure(design: Design, budget: Budget) -> Figure | None:
     f = np.geomspace(low, top, 1500)
     analog, digital = path_power_gain(chain, f)
 
+    names = [wrap_label(r.name, NAME_WRAP_CHARS) for r in residues]
+    lines = sum(n.count("\n") + 1 for n in names)
+    bars_in = max(0.9, 0.13 * lines + 0.12 * len(names))  # the residue panel, inches
     with matplotlib.rc_context(STYLE):
-        height = 4.2
+        height = bars_in + 3.3
         fig = Figure(figsize=(WIDTH_IN, height))
         FigureCanvasAgg(fig)
-        ax = fig.add_axes(
-            (0.72 / WIDTH_IN, 1.75 / height, (WIDTH_IN - 0.95) / WIDTH_IN, 2.1 / height)
-        )
+        # Both panels share a left margin wide enough for the longest line of a name.
+        every_line = [line for n in names for line in n.split("\n")]
+        left = max(0.72, text_width_in(fig, every_line, STYLE["ytick.labelsize"]) + 0.15)
+        width = (WIDTH_IN - left - 0.23) / WIDTH_IN
+        ax = fig.add_axes((left / WIDTH_IN, (bars_in + 0.85) / height, width, 2.1 / height))
         floor = -160.0
         ax.semilogx(
             f,
@@ -103,10 +121,7 @@ def alias_figure(design: Design, budget: Budget) -> Figure | None:
         ax.xaxis.set_major_formatter(FuncFormatter(hz_tick))
         legend(ax, loc="lower left")
 
-        bx = fig.add_axes(
-            (0.72 / WIDTH_IN, 0.35 / height, (WIDTH_IN - 0.95) / WIDTH_IN, 0.9 / height)
-        )
-        names = [r.name[:28] for r in residues]
+        bx = fig.add_axes((left / WIDTH_IN, 0.35 / height, width, bars_in / height))
         y = np.arange(len(residues))
         resid = [max(r.residue_v, 1e-15) for r in residues]
         allow = [r.allowed_v for r in residues]
