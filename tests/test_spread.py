@@ -216,6 +216,38 @@ def test_improvements_rank_and_name_what_was_not_evaluated():
     assert abs(current.bits_gained) < 1e-3
 
 
+@pytest.mark.parametrize(
+    "name",
+    ["hive-scale", "soil-temperature", "pipeline-vibration", "tank-pressure", "hive-spread"],
+)
+def test_improvements_equal_a_full_budget_per_figure(name):
+    # Reference: every figure 10 % better solved with a full forward budget. The default
+    # way scales a contribution or reuses the path integrals where only densities move;
+    # the sums are the same, so only rounding may differ.
+    from resplan.designfile.examples import load_example
+
+    design = load_example(name)
+    quick = improvements(design)
+    full = improvements(design, exact=True)
+    assert [(i.label, i.reason) for i in quick] == [(i.label, i.reason) for i in full]
+    for a, b in zip(quick, full, strict=True):
+        if b.bits_gained is None:
+            assert a.bits_gained is None
+            continue
+        assert a.bits_gained == pytest.approx(b.bits_gained, abs=1e-12)
+        assert a.noise_rms_v == pytest.approx(b.noise_rms_v, rel=1e-12)
+
+
+def test_improvement_fields_leave_out_names_and_the_title_block():
+    # "4.096 V reference (invented)" starts like a figure; read as one it would send its
+    # words to the unit parser (and load pint on the check path).
+    from resplan.designfile.examples import load_example
+
+    paths = [p for p, _ in load_example("pipeline-vibration").variant.fields()]
+    assert "reference.name" not in paths and not any(p.startswith("meta.") for p in paths)
+    assert "reference.noise_density" in paths
+
+
 def test_exact_budget_needs_a_design_file():
     from resplan.chain.design import Design
 

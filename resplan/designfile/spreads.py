@@ -404,9 +404,16 @@ class DesignVariant:
         return self._fields
 
 
+#: Free-text fields: a label such as "4.096 V reference" is not a figure (and reading it
+#: as one would send its words to the unit parser).
+_TEXT_KEYS = frozenset({"name", "title", "project", "revision", "author", "date", "change"})
+
+
 def _leaves(node: Any, path: str):
     if isinstance(node, dict):
         for key, value in node.items():
+            if key in _TEXT_KEYS or (not path and key == "meta"):
+                continue
             yield from _leaves(value, f"{path}.{key}" if path else str(key))
     elif isinstance(node, list):
         for i, value in enumerate(node):
