@@ -63,8 +63,9 @@ from ..noise.sections import (
     real_pole_resistance,
     sallen_key_lowpass,
     sallen_key_parts,
+    section_parts,
 )
-from ..units.formatting import format_number
+from ..units.formatting import format_number, format_si
 from .stages import (
     MAX_SECTION_Q,
     ActiveFilter,
@@ -507,7 +508,7 @@ def _sensor_parts(sensor: Sensor, temperature_k: float, differential: bool) -> t
 
 def _filter_parts(stage: ActiveFilter, p: str, node_in: str, node_out: str) -> list[Part]:
     """An active filter built from sections of its topology."""
-    sections = filter_sections(stage.response, stage.order)
+    sections = () if stage.sections else filter_sections(stage.response, stage.order)
     opamp = OpAmpModel(
         dc_gain=math.inf,
         gbw_hz=math.inf if stage.gbw_hz is None else stage.gbw_hz,
@@ -519,6 +520,12 @@ def _filter_parts(stage: ActiveFilter, p: str, node_in: str, node_out: str) -> l
     )
     parts: list[Part] = []
     node = node_in
+    if stage.sections:  # given by its component values, checked by the stage
+        for k, values in enumerate(stage.sections):
+            nxt = node_out if k == len(stage.sections) - 1 else f"{p}.n{k}"
+            parts += section_parts(f"{p}.sections[{k}]", values, node, nxt, opamp)
+            node = nxt
+        return parts
     gain_left = stage.gain
     c = stage.capacitor_f
     for k, section in enumerate(sections):
@@ -552,6 +559,13 @@ def _stage_parts(
     n_in = nodes_in[0]
     out = f"n{i + 1}"
     if isinstance(stage, RCFilter):
+        if single and stage.leg_capacitance_f > 0:
+            raise DesignError(
+                f"{p}.leg_capacitance",
+                format_si(stage.leg_capacitance_f, "F"),
+                "no capacitance to ground per leg in a single-ended RC (only after a "
+                "differential sensor; give it as the capacitance)",
+            )
         if single:
             parts = [
                 Resistor(f"{p}.R", n_in, out, stage.resistance_ohm),
@@ -566,6 +580,11 @@ def _stage_parts(
             Resistor(f"{p}.R-", nodes_in[1], outs[1], stage.resistance_ohm / 2),
             Capacitor(f"{p}.C", outs[0], outs[1], stage.capacitance_f),
         ]
+        if stage.leg_capacitance_f > 0:
+            parts += [
+                Capacitor(f"{p}.C+", outs[0], GROUND, stage.leg_capacitance_f),
+                Capacitor(f"{p}.C-", outs[1], GROUND, stage.leg_capacitance_f),
+            ]
         names[f"{p}.R+.thermal"] = ("thermal noise of R (+ leg)", "thermal")
         names[f"{p}.R-.thermal"] = ("thermal noise of R (− leg)", "thermal")
         return parts, outs, False, (), names

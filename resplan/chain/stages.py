@@ -15,8 +15,8 @@ from dataclasses import dataclass, field
 import numpy as np
 
 from ..errors import DesignError
-from ..noise.responses import AnalogLowpass
-from ..units.formatting import format_si
+from ..noise.responses import AnalogLowpass, SectionsLowpass
+from ..units.formatting import format_number, format_si
 
 __all__ = [
     "NoiseDensity",
@@ -343,21 +343,37 @@ class RCFilter:
 
     Its resistor's thermal noise is filtered by its own pole: alone it integrates
     to √(kT/C). The resistance adds to what a following amplifier's current noise sees.
+
+    Parameters
+    ----------
+    name : str
+        Label used in the budget.
+    resistance_ohm : float
+        Series resistance, Ω; after a differential sensor the sum of both legs.
+    capacitance_f : float
+        Shunt capacitance, F; after a differential sensor, across the legs.
+    leg_capacitance_f : float
+        After a differential sensor only: a capacitor from each leg to ground, F (≥ 0).
+        The differential-mode cut-off is then 1/(2πR(C + C_leg/2)) (each half of the
+        circuit sees R/2 with 2C + C_leg to the virtual ground).
     """
 
     name: str
     resistance_ohm: float
     capacitance_f: float
+    leg_capacitance_f: float = 0.0
 
     def __post_init__(self) -> None:
         check_positive("resistance", self.resistance_ohm, "a resistance > 0 ohm")
         check_positive("capacitance", self.capacitance_f, "a capacitance > 0 F")
+        check_nonnegative("leg_capacitance", self.leg_capacitance_f, "a capacitance ≥ 0 F")
 
     gain = 1.0
 
     @property
     def cutoff_hz(self) -> float:
-        return 1.0 / (2.0 * math.pi * self.resistance_ohm * self.capacitance_f)
+        c = self.capacitance_f + self.leg_capacitance_f / 2.0
+        return 1.0 / (2.0 * math.pi * self.resistance_ohm * c)
 
     @property
     def responses(self) -> tuple[AnalogLowpass, ...]:
@@ -405,6 +421,13 @@ class ActiveFilter:
     capacitor_f : float
         With a topology: the capacitor the synthesis starts from (C2 of each section and
         the real pole's C), F; 10 nF by default (common practice, no source).
+    sections : tuple of section values, optional
+        With a topology: the filter given by its component values instead of
+        (response, order, cutoff): :class:`~resplan.noise.sections.SallenKeyValues`,
+        :class:`~resplan.noise.sections.MultipleFeedbackValues` (as the topology) or
+        :class:`~resplan.noise.sections.RealPoleValues` (a buffered RC pole), in signal
+        order. Build it with :meth:`from_sections`; ``response`` is then ``"sections"``
+        and ``order``, ``cutoff_hz`` and ``gain`` are read off the values.
 
     Notes
     -----
@@ -423,9 +446,47 @@ class ActiveFilter:
     in_noise: NoiseDensity | None = None
     gbw_hz: float | None = None
     capacitor_f: float = 10e-9
-    _lowpass: AnalogLowpass = field(init=False, repr=False, compare=False)
+    sections: tuple = ()
+    _lowpass: AnalogLowpass | SectionsLowpass = field(init=False, repr=False, compare=False)
+
+    @classmethod
+    def from_sections(cls, name: str, topology: str, sections: tuple, **kwargs) -> ActiveFilter:
+        """An active filter given by the component values of its sections.
+
+        Examples
+        --------
+        >>> from resplan.noise.sections import sallen_key_lowpass
+        >>> f = ActiveFilter.from_sections("f", "sallen-key", (sallen_key_lowpass(1e3, 0.7071),))
+        >>> f.order, round(f.cutoff_hz, 1), f.gain
+        (2, 1000.0, 1.0)
+        """
+        from ..noise.sections import section_f0_q
+
+        shape = []
+        gain = 1.0
+        for k, values in enumerate(sections):
+            try:
+                f0, q, g = section_f0_q(values)
+            except DesignError as err:
+                raise DesignError(f"sections[{k}]", err.value, err.expected) from None
+            shape.append((f0, q))
+            gain *= g
+        response = SectionsLowpass(tuple(shape))
+        return cls(
+            name,
+            "sections",
+            response.order,
+            response.cutoff_hz,
+            gain,
+            topology=topology,
+            sections=tuple(sections),
+            **kwargs,
+        )
 
     def __post_init__(self) -> None:
+        if self.sections:
+            self._check_sections()
+            return
         check_positive("gain", self.gain, "a pass-band gain > 0 V/V")
         check_nonnegative("noise_resistance", self.noise_resistance_ohm, "a resistance ≥ 0 ohm")
         if self.topology is not None:
@@ -451,8 +512,46 @@ class ActiveFilter:
             raise DesignError(err.field.removeprefix("filter."), err.value, err.expected) from None
         object.__setattr__(self, "_lowpass", lowpass)
 
+    def _check_sections(self) -> None:
+        from ..noise.sections import (
+            MultipleFeedbackValues,
+            RealPoleValues,
+            SallenKeyValues,
+            section_f0_q,
+        )
+
+        if self.topology not in ACTIVE_FILTER_TOPOLOGIES:
+            raise DesignError("topology", self.topology, '"sallen-key" or "multiple-feedback"')
+        pair = SallenKeyValues if self.topology == "sallen-key" else MultipleFeedbackValues
+        shape = []
+        for k, values in enumerate(self.sections):
+            if not isinstance(values, pair | RealPoleValues):
+                raise DesignError(
+                    f"sections[{k}]", type(values).__name__, f"a {self.topology} section"
+                )
+            try:
+                f0, q, _ = section_f0_q(values)
+            except DesignError as err:
+                raise DesignError(f"sections[{k}]", err.value, err.expected) from None
+            if q is not None and q > MAX_SECTION_Q:
+                raise DesignError(
+                    f"sections[{k}]",
+                    f"Q = {format_number(q)} at {format_si(f0, 'Hz')}",
+                    f"a section Q ≤ {format_number(MAX_SECTION_Q)} (a higher Q sits close to "
+                    "oscillation and a 1 % part moves its peak by several dB)",
+                )
+            shape.append((f0, q))
+        if self.noise_resistance_ohm:
+            raise DesignError(
+                "noise_resistance",
+                self.noise_resistance_ohm,
+                "no equivalent resistor with sections",
+            )
+        check_optional_positive("gbw", self.gbw_hz, "a gain-bandwidth product > 0 Hz")
+        object.__setattr__(self, "_lowpass", SectionsLowpass(tuple(shape)))
+
     @property
-    def responses(self) -> tuple[AnalogLowpass, ...]:
+    def responses(self) -> tuple[AnalogLowpass | SectionsLowpass, ...]:
         return (self._lowpass,)
 
     output_resistance_ohm = 0.0

@@ -39,6 +39,7 @@ __all__ = [
     "AmplifierTable",
     "RCFilterTable",
     "ActiveFilterTable",
+    "FilterSectionTable",
     "InvertingTable",
     "TransimpedanceTable",
     "STAGE_MODELS",
@@ -367,8 +368,39 @@ class RCFilterTable(StageTable):
     resistance: Quantity = _field(
         "Series resistance (both legs of a differential filter).", "2 kohm"
     )
-    capacitance: Quantity = _field("Shunt capacitance.", "10 nF")
+    capacitance: Quantity = _field(
+        "Shunt capacitance (across the legs when differential).", "10 nF"
+    )
+    leg_capacitance: Quantity = _field(
+        "After a differential sensor: a capacitor from each leg to ground (default none).",
+        "1 nF",
+    )
     cutoff: Quantity = _field("Cut-off of an open filter (a given filter's is 1/(2πRC)).", "8 kHz")
+
+
+class FilterSectionTable(_Table):
+    """One section of an active filter given by its component values.
+
+    A Sallen-Key pair: r1, r2, c1, c2 (and rf, rg for a gain 1 + rf/rg); a
+    multiple-feedback pair: r1, r2, r3, c1, c2 (gain −r2/r1); a buffered real pole:
+    r, c.
+    """
+
+    r1: Quantity = _field("Input resistor (both topologies).", "11.3 kohm")
+    r2: Quantity = _field(
+        "Sallen-Key: second series resistor; multiple-feedback: feedback resistor.", "11.3 kohm"
+    )
+    r3: Quantity = _field("Multiple-feedback: resistor to the inverting input.", "5.6 kohm")
+    c1: Quantity = _field(
+        "Sallen-Key: feedback capacitor; multiple-feedback: capacitor to ground.", "20 nF"
+    )
+    c2: Quantity = _field(
+        "Sallen-Key: capacitor to ground; multiple-feedback: feedback capacitor.", "10 nF"
+    )
+    rf: Quantity = _field("Sallen-Key with gain: feedback resistor of 1 + rf/rg.", "10 kohm")
+    rg: Quantity = _field("Sallen-Key with gain: resistor to ground of 1 + rf/rg.", "10 kohm")
+    r: Quantity = _field("A buffered real pole: its resistor.", "15.9 kohm")
+    c: Quantity = _field("A buffered real pole: its capacitor.", "10 nF")
 
 
 class ActiveFilterTable(StageTable):
@@ -402,6 +434,11 @@ class ActiveFilterTable(StageTable):
     gbw: Quantity = _field("With a topology: each op amp's gain-bandwidth product.", "10 MHz")
     capacitor: Quantity = _field(
         "With a topology: the capacitor the section values start from (default 10 nF).", "10 nF"
+    )
+    sections: list[FilterSectionTable] | None = _field(
+        "With a topology, instead of response, order, cutoff and gain: each section's "
+        "component values in signal order, as [[stages.sections]] tables or inline tables.",
+        [{"r1": "11.3 kohm", "r2": "11.3 kohm", "c1": "20 nF", "c2": "10 nF"}],
     )
 
 

@@ -729,12 +729,19 @@ def _rc_filter(r: TableReader, p: str, name: str, t: RCFilterTable) -> Any:
         ("cutoff",),
         "not given for an RC filter: its cut-off is 1/(2πRC) (give cutoff only with open = true)",
     )
-    if res is None or cap is None:
+    leg = r.q(
+        t.leg_capacitance, "capacitance", f"{p}.leg_capacitance", minimum="≥ 0", default=0.0
+    )
+    if res is None or cap is None or leg is None:
         return None
-    return r.build(p, RCFilter, name, res, cap)
+    return r.build(p, RCFilter, name, res, cap, leg)
 
 
 def _active_filter(r: TableReader, p: str, name: str, t: ActiveFilterTable) -> Any:
+    if t.sections is not None:  # given by its component values
+        from .filters import read_filter_sections
+
+        return read_filter_sections(r, p, name, t)
     need = not t.open
     if t.response is None and need:
         r.missing(f"{p}.response", "one of butterworth, bessel, rc")

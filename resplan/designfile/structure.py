@@ -284,6 +284,10 @@ def _set_aside(work: dict, loc: tuple) -> tuple:
     table = loc[0]
     if table == "stages" and len(loc) >= 2 and isinstance(loc[1], int):
         at = loc[:3] if len(loc) >= 3 and isinstance(loc[2], str) and loc[2] != "type" else loc[:2]
+        if len(loc) > 3 and loc[2] == "sections":
+            # A problem inside a section's table: the stage is set aside whole, so that
+            # its other fields are not reported as missing.
+            at = loc[:2]
     else:
         at = loc[:2] if len(loc) >= 2 and isinstance(loc[1], str) else loc[:1]
     if len(at) == 1:

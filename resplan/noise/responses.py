@@ -25,6 +25,7 @@ from ..units.formatting import format_si
 __all__ = [
     "ANALOG_KINDS",
     "AnalogLowpass",
+    "SectionsLowpass",
     "SincFilter",
     "IdealLowpass",
     "DigitalFilter",
@@ -193,6 +194,91 @@ class AnalogLowpass:
     def rolloff_order(self) -> int:
         """Asymptotic slope of |H|² is f^(-2·order)."""
         return self.order
+
+
+@dataclass(frozen=True)
+class SectionsLowpass:
+    r"""An analog low-pass given by its sections: pole pairs (f₀, Q) and real poles.
+
+    The response of a filter built from component values rather than from a named
+    prototype, normalised to unit gain at DC:
+
+    .. math:: |H(f)|^2 = \prod_{\text{pairs}} \frac{1}{(1 - x^2)^2 + (x/Q)^2}
+              \prod_{\text{real}} \frac{1}{1 + x^2}, \qquad x = f/f_0 .
+
+    Parameters
+    ----------
+    sections : tuple of (float, float or None)
+        (f₀ in Hz, Q) of each section; Q None for a real pole.
+
+    Examples
+    --------
+    >>> f = SectionsLowpass(((1000.0, 1 / math.sqrt(2)),))  # a 2nd-order Butterworth
+    >>> round(f.cutoff_hz, 3), round(float(f.attenuation_db(2000.0)), 2)
+    (1000.0, 12.3)
+    """
+
+    sections: tuple[tuple[float, float | None], ...]
+
+    def __post_init__(self) -> None:
+        if not self.sections:
+            raise DesignError("sections", "none", "at least one section")
+        for f0, q in self.sections:
+            _positive("sections.f0", f0, "a natural frequency > 0 Hz")
+            if q is not None:
+                _positive("sections.q", q, "a Q > 0")
+
+    def power_gain(self, frequency_hz: ArrayLike) -> np.ndarray:
+        """|H(f)|² at the given frequencies (Hz), 1 at DC."""
+        f = np.abs(np.asarray(frequency_hz, dtype=float))
+        out = np.ones(f.shape)
+        for f0, q in self.sections:
+            x2 = (f / f0) ** 2
+            out = out / ((1.0 + x2) if q is None else ((1.0 - x2) ** 2 + x2 / (q * q)))
+        return out
+
+    def attenuation_db(self, frequency_hz: ArrayLike) -> np.ndarray:
+        """Attenuation −10·log10|H(f)|², dB (positive in the stop band)."""
+        return -10.0 * np.log10(self.power_gain(frequency_hz))
+
+    @property
+    def order(self) -> int:
+        return sum(1 if q is None else 2 for _, q in self.sections)
+
+    @property
+    def rolloff_order(self) -> int:
+        """Asymptotic slope of |H|² is f^(-2·order)."""
+        return self.order
+
+    @property
+    def cutoff_hz(self) -> float:
+        """The highest frequency where |H|² = 1/2 (−3 dB), Hz, found by bisection in ln f."""
+        return _half_power_hz(self)
+
+    def noise_bandwidth_hz(self) -> float:
+        """Equivalent noise bandwidth ∫₀^∞ |H(f)|² df, Hz (numerically, on a log grid)."""
+        top = max(f0 for f0, _ in self.sections)
+        f = np.geomspace(top * 1e-6, top * 1e4, 20001)
+        g = self.power_gain(f)
+        # ∫₀^{f₀} ≈ f·g at the bottom; the tail above falls as f^(-2n), n ≥ 1.
+        body = float(np.sum((g[1:] + g[:-1]) * np.diff(f)) / 2.0)
+        return f[0] * g[0] + body
+
+
+@cache
+def _half_power_hz(response: SectionsLowpass) -> float:
+    lo = min(f0 for f0, _ in response.sections) * 1e-3
+    hi = max(f0 for f0, _ in response.sections) * 1e3
+    grid = np.geomspace(lo, hi, 4001)
+    above = np.flatnonzero(response.power_gain(grid) >= 0.5)
+    a, b = math.log(grid[above[-1]]), math.log(grid[min(above[-1] + 1, grid.size - 1)])
+    for _ in range(60):
+        mid = 0.5 * (a + b)
+        if float(response.power_gain(math.exp(mid))) >= 0.5:
+            a = mid
+        else:
+            b = mid
+    return math.exp(0.5 * (a + b))
 
 
 @dataclass(frozen=True)

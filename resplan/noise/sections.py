@@ -56,6 +56,9 @@ __all__ = [
     "lowpass_cascade_parts",
     "DEFAULT_CAPACITOR_F",
     "DEFAULT_GAIN_RESISTOR_OHM",
+    "RealPoleValues",
+    "section_f0_q",
+    "section_parts",
 ]
 
 FilterKind = Literal["butterworth", "bessel"]
@@ -373,6 +376,75 @@ def multiple_feedback_lowpass(
     r2 = 0.5 * (s + math.sqrt(max(0.0, s * s - 4.0 * (1.0 + gain) * p)))
     r3 = p / r2
     return MultipleFeedbackValues(r2 / gain, r2, r3, c1, c2, float(gain))
+
+
+@dataclass(frozen=True)
+class RealPoleValues:
+    """A buffered RC real pole: R from the input to node rc, C from rc to ground. Ω and F."""
+
+    r_ohm: float
+    c_f: float
+    gain: float = 1.0
+
+
+def section_f0_q(
+    values: SallenKeyValues | MultipleFeedbackValues | RealPoleValues,
+) -> tuple[float, float | None, float]:
+    r"""Natural frequency (Hz), Q (None for a real pole) and DC gain magnitude of a section.
+
+    Read off the denominators in :func:`sallen_key_lowpass` and
+    :func:`multiple_feedback_lowpass`, written 1 + b·s + a·s²: ω₀ = 1/√a and
+    Q = 1/(ω₀·b). Sallen-Key: a = R1R2C1C2, b = C2(R1 + R2) + R1C1(1 − K);
+    multiple-feedback: a = R2R3C1C2, b = C2(R2 + R3 + R2R3/R1); a real pole 1/(2πRC).
+
+    Raises
+    ------
+    DesignError
+        ``q`` when b ≤ 0: the section's poles are in the right half-plane (or on the
+        jω axis), a Sallen-Key whose gain K is too high for its capacitors.
+
+    Examples
+    --------
+    >>> v = sallen_key_lowpass(1e3, 0.7071)
+    >>> f0, q, k = section_f0_q(v)
+    >>> round(f0, 6), round(q, 6), k
+    (1000.0, 0.7071, 1.0)
+    """
+    if isinstance(values, RealPoleValues):
+        return 1.0 / (2.0 * math.pi * values.r_ohm * values.c_f), None, values.gain
+    if isinstance(values, SallenKeyValues):
+        a = values.r1_ohm * values.r2_ohm * values.c1_f * values.c2_f
+        b = values.c2_f * (values.r1_ohm + values.r2_ohm) + values.r1_ohm * values.c1_f * (
+            1.0 - values.gain
+        )
+    else:
+        r1, r2, r3 = values.r1_ohm, values.r2_ohm, values.r3_ohm
+        a = r2 * r3 * values.c1_f * values.c2_f
+        b = values.c2_f * (r2 + r3 + r2 * r3 / r1)
+    w0 = 1.0 / math.sqrt(a)
+    if not b > 0.0:
+        raise DesignError(
+            "q",
+            "a pole pair in the right half-plane" if b < 0 else "a pole pair on the jω axis",
+            "a stable section: C2·(R1 + R2) > R1·C1·(K − 1) (a lower gain K = 1 + RF/RG or a "
+            "smaller C1)",
+        )
+    return w0 / (2.0 * math.pi), 1.0 / (w0 * b), values.gain
+
+
+def section_parts(
+    prefix: str,
+    values: SallenKeyValues | MultipleFeedbackValues | RealPoleValues,
+    node_in: str,
+    node_out: str,
+    opamp: OpAmpModel,
+) -> tuple[Part, ...]:
+    """Parts of one section given by its values (a real pole is buffered by a follower)."""
+    if isinstance(values, SallenKeyValues):
+        return sallen_key_parts(prefix, values, node_in, node_out, opamp)
+    if isinstance(values, MultipleFeedbackValues):
+        return multiple_feedback_parts(prefix, values, node_in, node_out, opamp)
+    return real_pole_parts(prefix, values.r_ohm, values.c_f, node_in, node_out, opamp)
 
 
 def real_pole_resistance(f0_hz: float, capacitor_f: float = DEFAULT_CAPACITOR_F) -> float:

@@ -72,6 +72,15 @@ def block_lines(part: Any) -> tuple[str, str, list[str]]:
         return "", "integrated amplifier", lines
     if isinstance(part, RCFilter):
         return "", "RC filter", [f"corner {format_si(part.cutoff_hz, 'Hz')}"]
+    if isinstance(part, ActiveFilter) and part.sections:
+        return (
+            "",
+            f"{part.topology} filter",
+            [
+                f"order {part.order}, corner {format_si(part.cutoff_hz, 'Hz')}",
+                f"{len(part.sections)} sections by value",
+            ],
+        )
     if isinstance(part, ActiveFilter):
         return (
             "",

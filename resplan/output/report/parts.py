@@ -112,10 +112,26 @@ def describe_part(part: Any) -> tuple[str, str, str]:
             part.name,
             "RC filter",
             (
-                f"R {format_si(part.resistance_ohm, 'Ω')}, C {format_si(part.capacitance_f, 'F')}; "
-                f"corner {format_si(part.cutoff_hz, 'Hz')}"
+                f"R {format_si(part.resistance_ohm, 'Ω')}, C {format_si(part.capacitance_f, 'F')}"
+                + (
+                    f", C to ground per leg {format_si(part.leg_capacitance_f, 'F')}"
+                    if part.leg_capacitance_f
+                    else ""
+                )
+                + f"; corner {format_si(part.cutoff_hz, 'Hz')}"
             ),
         )
+    if isinstance(part, ActiveFilter) and part.sections:
+        figures = (
+            f"{part.topology}, order {part.order}, corner {format_si(part.cutoff_hz, 'Hz')}, "
+            f"gain {format_si(part.gain, 'V/V')}; sections by value: "
+            + "; ".join(_section_text(v) for v in part.sections)
+        )
+        if part.en is not None:
+            figures += f"; e_n {_density(part.en, 'V/√Hz')}"
+        if part.gbw_hz is not None:
+            figures += f"; GBW {format_si(part.gbw_hz, 'Hz')}"
+        return part.name, "active filter", figures
     if isinstance(part, ActiveFilter):
         figures = (
             f"{part.response}, order {part.order}, corner {format_si(part.cutoff_hz, 'Hz')}; "
@@ -144,6 +160,26 @@ def describe_part(part: Any) -> tuple[str, str, str]:
         )
         return part.name, "ADC", figures
     return str(getattr(part, "name", part)), type(part).__name__, ""
+
+
+def _section_text(values: Any) -> str:
+    """A filter section's component values, in the design file's names."""
+    names = {
+        "r1_ohm": ("R1", "Ω"),
+        "r2_ohm": ("R2", "Ω"),
+        "r3_ohm": ("R3", "Ω"),
+        "c1_f": ("C1", "F"),
+        "c2_f": ("C2", "F"),
+        "rf_ohm": ("RF", "Ω"),
+        "rg_ohm": ("RG", "Ω"),
+        "r_ohm": ("R", "Ω"),
+        "c_f": ("C", "F"),
+    }
+    return ", ".join(
+        f"{label} {format_si(getattr(values, key), unit)}"
+        for key, (label, unit) in names.items()
+        if getattr(values, key, None) is not None
+    )
 
 
 def describe_adc_noise(adc: Any) -> str:
