@@ -53,6 +53,7 @@ def clear_caches() -> None:
     bandwidth._cached_noise_bandwidth.cache_clear()
     bandwidth._cached_base_grid.cache_clear()
     bandwidth._fast_mean.cache_clear()
+    bandwidth._image_panels.cache_clear()
     netlists.build_circuit.cache_clear()
     netlists.transfer_table.cache_clear()
     budget_module._path_bandwidths.cache_clear()

@@ -115,12 +115,8 @@ def _assignment_lines(lines: list[str]) -> list[int]:
     return [i for i, line in enumerate(lines) if _ASSIGN.match(line.split("#", 1)[0])]
 
 
-def mutate(text: str, rng: random.Random, many_stages: bool = False) -> str:
-    """One to three random mutations of a design file's text.
-
-    ``many_stages`` also adds 20 stages at a time (slow until the path integration
-    is linear in the stage count; see benchmarks/bench_stages.py).
-    """
+def mutate(text: str, rng: random.Random) -> str:
+    """One to three random mutations of a design file's text."""
     lines = text.split("\n")
     for _ in range(rng.choice((1, 1, 2, 3))):
         assigns = _assignment_lines(lines)
@@ -160,8 +156,7 @@ def mutate(text: str, rng: random.Random, many_stages: bool = False) -> str:
                 '\n[[stages]]\ntype = "rc_filter"\nresistance = "10 ohm"\ncapacitance = "1 nF"\n'
             )
             at = next((i for i, line in enumerate(lines) if line.startswith("[adc]")), len(lines))
-            counts = (2, 20, 1001) if many_stages else (2, 1001)
-            lines[at:at] = (block * rng.choice(counts)).split("\n")
+            lines[at:at] = (block * rng.choice((2, 20, 1001))).split("\n")
         elif op == 11:  # truncated
             joined = "\n".join(lines)
             joined = joined[: rng.randrange(len(joined) + 1)]
@@ -279,9 +274,6 @@ def main_campaign(argv: list[str] | None = None) -> int:
     ap.add_argument("--out", default=None)
     ap.add_argument("--worker", type=int, default=0, help="this worker's index")
     ap.add_argument("--workers", type=int, default=1, help="how many workers share the files")
-    ap.add_argument(
-        "--many-stages", action="store_true", help="also add 20 stages at a time (slow)"
-    )
     args = ap.parse_args(argv)
 
     from click.testing import CliRunner
@@ -305,7 +297,7 @@ def main_campaign(argv: list[str] | None = None) -> int:
         if time.monotonic() - start > args.seconds:
             break
         name = names[n % len(names)]
-        text = mutate(examples[name], rng, args.many_stages)
+        text = mutate(examples[name], rng)
         path = work / f"{name}.toml"
         path.write_text(text, encoding="utf-8", errors="surrogatepass")
         commands = ["check --json" if n % 2 else "check"]
@@ -355,7 +347,6 @@ def main_campaign(argv: list[str] | None = None) -> int:
         "exits": dict(exits),
         "seconds": round(time.monotonic() - start, 1),
         "seed": args.seed,
-        "many_stages": args.many_stages,
     }
     (out / f"summary-{args.worker}.json").write_text(json.dumps(summary, indent=2))
     print(json.dumps(summary, indent=2))

@@ -381,24 +381,40 @@ def _image_panels(
 ) -> _ImagePanels:
     mid, width, gain = _cached_base_grid(digital, f_low, grid_points)
     centre = m * digital.sample_rate_hz
-    f = np.concatenate([centre - mid, centre + mid])
-    weight = np.concatenate([gain * width, gain * width])
+    # m·f_s − u lies below m·f_s + u: both sides together run in ascending order.
+    f = np.concatenate([centre - mid[::-1], centre + mid])
+    weight = gain * width
+    weight = np.concatenate([weight[::-1], weight])
     position = (np.log(f) - origin) / step
     panel = np.floor(position)
-    order = np.argsort(panel, kind="stable")
-    f, weight, panel, position = f[order], weight[order], panel[order], position[order]
     starts = np.flatnonzero(np.concatenate([[True], panel[1:] != panel[:-1]]))
-    k = np.arange(_PANEL_NODES)
-    nodes = 0.5 * (1.0 - np.cos((2 * k + 1) * np.pi / (2 * _PANEL_NODES)))
-    t = position - panel
-    basis = np.ones((f.size, _PANEL_NODES))
-    for j in range(_PANEL_NODES):
-        for i in range(_PANEL_NODES):
-            if i != j:
-                basis[:, j] *= (t - nodes[i]) / (nodes[j] - nodes[i])
+    basis = _chebyshev_basis(2.0 * (position - panel) - 1.0)
     lows = panel[starts]
-    nodes_hz = np.exp(origin + step * (lows[:, None] + nodes[None, :])).reshape(-1)
+    nodes_hz = np.exp(origin + step * (lows[:, None] + _NODES[None, :])).reshape(-1)
     return _ImagePanels(f, weight, starts, basis, nodes_hz)
+
+
+#: Chebyshev nodes of the first kind on [0, 1].
+_NODES = 0.5 * (1.0 - np.cos((2 * np.arange(_PANEL_NODES) + 1) * np.pi / (2 * _PANEL_NODES)))
+
+
+@lru_cache(maxsize=1)
+def _node_inverse() -> np.ndarray:
+    from numpy.polynomial import chebyshev
+
+    return np.linalg.inv(chebyshev.chebvander(2.0 * _NODES - 1.0, _PANEL_NODES - 1))
+
+
+def _chebyshev_basis(x: np.ndarray) -> np.ndarray:
+    """Lagrange basis ℓ_k on the panel nodes at x ∈ [−1, 1], (points, nodes).
+
+    Formed through the Chebyshev polynomials, whose matrix at Chebyshev nodes is well
+    conditioned (its inverse is a scaled transpose; Mason & Handscomb, *Chebyshev
+    Polynomials*, §6.3, from memory).
+    """
+    from numpy.polynomial import chebyshev
+
+    return chebyshev.chebvander(x, _PANEL_NODES - 1) @ _node_inverse()
 
 
 def _integrate_folded(psd, analog, digital, f_low, grid_points, folded_source):
