@@ -27,8 +27,10 @@ PART_KINDS: dict[str, tuple[str, ...]] = {
     # Front-end or driver amplifier, either model. ``gain`` known or open;
     # ``en_corner_hz`` and ``in_corner_hz`` are the 1/f corners assumed for the limits.
     # ``rf_ohm`` and ``rg_ohm`` (a non-inverting stage whose resistors are chosen: their
-    # thermal noise is fixed, and i_n− flows in RF‖RG).
+    # thermal noise is fixed, and i_n− flows in RF‖RG); ``op_amp`` (true for a
+    # non-inverting op-amp stage: its speed is a GBW, not an in-amp's bandwidth).
     "amplifier": (
+        "op_amp",
         "gain",
         "en_corner_hz",
         "in_corner_hz",

@@ -67,6 +67,7 @@ from .models import (
     StageTable,
     TransimpedanceTable,
 )
+from .open_stages import open_filter_circuit, open_inverting, open_transimpedance
 from .structure import MissingField
 
 __all__ = [
@@ -571,10 +572,7 @@ def read_stage(r: TableReader, i: int, t: StageTable) -> Any:
 
 def _transimpedance(r: TableReader, p: str, name: str, t: TransimpedanceTable) -> Any:
     if t.open:
-        r.bad(
-            f"{p}.open", True, "a given transimpedance stage (the planner sizes amplifier stages)"
-        )
-        return None
+        return open_transimpedance(r, p, name, t)
     rf = r.q(t.rf, "resistance", f"{p}.rf", required=True, minimum="> 0")
     cf = r.q(t.cf, "capacitance", f"{p}.cf", minimum="> 0")
     gbw = r.q(t.gbw, "frequency", f"{p}.gbw", minimum="> 0")
@@ -606,8 +604,7 @@ def _transimpedance(r: TableReader, p: str, name: str, t: TransimpedanceTable) -
 
 def _inverting(r: TableReader, p: str, name: str, t: InvertingTable) -> Any:
     if t.open:
-        r.bad(f"{p}.open", True, "a given inverting stage (the planner sizes amplifier stages)")
-        return None
+        return open_inverting(r, p, name, t)
     rf = r.q(t.rf, "resistance", f"{p}.rf", required=True, minimum="> 0")
     rin = r.q(t.rin, "resistance", f"{p}.rin", required=True, minimum="> 0")
     gbw = r.q(t.gbw, "frequency", f"{p}.gbw", minimum="> 0")
@@ -638,9 +635,12 @@ def _noninverting(r: TableReader, p: str, name: str, t: NonInvertingTable) -> An
             known["gain"] = gain
         elif rf is not None:
             known["gain"] = 1.0 + (rf / rg if rg else 0.0)
+            if rf > 0 and rg:  # the resistors are chosen: their noise is fixed
+                known.update(rf_ohm=rf, rg_ohm=rg)
         put_known(known, "gbw_hz", gbw, t.gbw)
         put_known(known, "en_corner_hz", en_c, t.en_corner)
         put_known(known, "in_corner_hz", in_c, t.in_corner)
+        known["op_amp"] = True
         return r.build(p, OpenPart, "amplifier", name, p, known)
     r.refuse(
         t,
@@ -750,8 +750,11 @@ def _active_filter(r: TableReader, p: str, name: str, t: ActiveFilterTable) -> A
     cutoff = r.q(t.cutoff, "frequency", f"{p}.cutoff", required=need, minimum="> 0")
     gain = r.number(t.gain, f"{p}.gain", "a pass-band gain > 0 V/V", default=1.0)
     if t.open:
-        r.refuse_open(t, p, ("noise_resistance", "en", "en_corner"))
         known: dict[str, Any] = {}
+        if t.topology is not None:
+            open_filter_circuit(r, p, t, known)
+        else:
+            r.refuse_open(t, p, ("noise_resistance", "en", "en_corner"))
         put_known(known, "response", t.response, t.response)
         put_known(known, "order", t.order, t.order)
         put_known(known, "cutoff_hz", cutoff, t.cutoff)

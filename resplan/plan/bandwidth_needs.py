@@ -38,7 +38,7 @@ import math
 
 from ..chain.design import Design
 from ..chain.signal_chain import Chain
-from ..chain.stages import InvertingStage, TransimpedanceStage
+from ..chain.stages import IntegratedAmplifier, InvertingStage, TransimpedanceStage
 from ..units.formatting import format_si
 from .limits import PartRequirement
 from .provisional import Slot
@@ -105,18 +105,21 @@ def settle_gbw(design: Design, chain: Chain, slots: list[Slot]) -> None:
             continue
         stage = chain.stages[slot.index]
         known = slot.part.known
+        in_amp = isinstance(stage, IntegratedAmplifier) and not known.get("op_amp")
         if slot.part.kind == "transimpedance":
             _transimpedance(design, slot, stage, top)
             continue
-        in_amp = slot.part.kind == "amplifier" and not hasattr(stage, "rf_ohm")
         noise_gain = stage.noise_gain if isinstance(stage, InvertingStage) else stage.gain
         needs: list[tuple[float, str, str]] = []
         if top is not None:
+            held = (
+                f"its gain {format_si(stage.gain, 'V/V')} held up to the band top "
+                f"{format_si(top, 'Hz')}, as check requires"
+            )
             needs.append(
                 (
                     stage.gain * top,
-                    f"open-loop gain GBW/f at the band top {format_si(top, 'Hz')} at least the "
-                    f"stage's gain {format_si(stage.gain, 'V/V')} (what check accepts)",
+                    held if in_amp else f"open-loop gain GBW/f_top ≥ the stage's gain: {held}",
                     "GBW ≥ G·f_top",
                 )
             )
@@ -165,7 +168,7 @@ def _check_stated(
     need = gbw_min / gain if key == "bandwidth_hz" else gbw_min
     slot.reasons.append(
         f"{slot.part.field_path}.{name}: the stated {format_si(stated, 'Hz')} is below "
-        f"the {format_si(need, 'Hz')} needed ({why})"
+        f"the {format_si(need, 'Hz')} needed: {why}"
     )
     slot.part = _with_known(slot, {key: need})
     slot.assumptions.append(

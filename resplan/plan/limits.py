@@ -462,9 +462,10 @@ def _no_room(slot: Slot, chain: Chain):
     )
     if slot.index is not None:
         noiseless = slot.stage()
+        rows = [row, *slot.gbw_rows]
         if part.kind == "filter" and noiseless.topology is None:
-            return [row], {"noise_resistance_ohm": 0.0, "stage": noiseless}
-        return [row], {"en": NoiseDensity(0.0), "stage": noiseless, "stage_split": None}
+            return rows, {"noise_resistance_ohm": 0.0, "stage": noiseless}
+        return rows, {"en": NoiseDensity(0.0), "stage": noiseless, "stage_split": None}
     limit = {
         "reference": {"noise": NoiseDensity(0.0)},
         "adc": {"noise": NoiseAtRate(0.0, chain.adc.output_rate_hz)},

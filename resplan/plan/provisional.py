@@ -240,6 +240,16 @@ def provisional_chain(design: Design) -> tuple[Chain, list[Slot], list[str]]:
             f"{format_si(adc.sample_rate_hz, 'Hz')} (the ADC sample rate) assumed: state {what}"
         )
         stages[slot.index] = _placeholder_gain_stage(slot, stages[slot.index].gain)
+    for slot in slots:
+        k = slot.part.known
+        if slot.part.kind in ("inverting", "amplifier") and (
+            k.get("op_amp") or slot.part.kind == "inverting" or k.get("rf_ohm")
+        ):
+            if k.get("gbw_hz") is None and k.get("bandwidth_hz") is None:
+                slot.assumptions.append(
+                    f"{slot.part.name}: op amp taken as ideal (no gbw stated) for the noise; a "
+                    "finite GBW only narrows the stage's noise band, so its limits stay safe"
+                )
     # The first gain stage of unknown gain takes the largest gain the ADC range allows.
     for n, slot in enumerate(unknown_gain):
         unit = "V/A" if slot.part.kind == "transimpedance" else "V/V"
