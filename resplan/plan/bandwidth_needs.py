@@ -27,9 +27,10 @@ gain stage the planner states the least GBW that
 A transimpedance stage's e_n noise gain rises to 1 + C_in/C_f and stays there up to the
 loop's crossover, so its noise depends on the GBW: with none stated the planner takes
 the least GBW above for the noise and says so (a faster op amp passes more e_n·C_in
-noise). A stated GBW or bandwidth below what ``check`` accepts makes the plan infeasible,
-naming the field given; the planner carries on with the least GBW, so every other
-figure is still computed.
+noise). A stated GBW or bandwidth below what ``check`` accepts (or below the flatness
+GBW when a flatness is stated) makes the plan infeasible, naming the field given; the
+planner carries on with the least GBW, so every other figure is still computed. A
+stated TIA GBW below the flat-response one is only said (a rule of thumb, not a check).
 """
 
 from __future__ import annotations
@@ -225,7 +226,9 @@ def _transimpedance(
             "and plan again"
         )
     elif known["gbw_hz"] < gbw * (1 - 1e-12):
-        slot.reasons.append(
-            f"{slot.part.field_path}.gbw: the stated {format_si(known['gbw_hz'], 'Hz')} is "
-            f"below the {format_si(gbw, 'Hz')} a flat response needs"
+        # A rule of thumb, not an item check judges: said, not refused.
+        slot.assumptions.append(
+            f"{slot.part.name}: the stated gbw {format_si(known['gbw_hz'], 'Hz')} is below the "
+            f"{format_si(gbw, 'Hz')} of a flat response: expect peaking near the loop's "
+            "crossover (the figures use the stated gbw)"
         )

@@ -509,7 +509,7 @@ def gain_limits(slots, chain: Chain, design: Design, fixed, allowed: float, reas
             g_max,
             gain_unit,
             "max",
-            f"sensor span {_v(design.sensor.span_v)} into "
+            f"sensor span {format_si(design.sensor.span_v, design.sensor.unit)} into "
             f"{format_si(chain.adc.full_scale_range_v, 'V')} "
             f"full-scale range{kept}",
             "G_max = (1 − headroom) · FSR / (span · other gains)",

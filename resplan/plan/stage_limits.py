@@ -110,8 +110,9 @@ def gain_stage_rows(slot: Slot, var: float, chain: Chain, design: Design):
     e_path, i_path = slot.paths["voltage"], slot.paths["current"]
     en_max = sigma / e_path if e_path > 0 else math.inf
     in_max = sigma / i_path if i_path > 0 else math.inf
-    unit = design.sensor.unit
     band = _band_text(slot)
+    if isinstance(stage, TransimpedanceStage):
+        band = "the e_n·C_in noise-gain peaking solved with the loop"
     rows = [
         PartRequirement(
             part.name,
@@ -163,8 +164,6 @@ def gain_stage_rows(slot: Slot, var: float, chain: Chain, design: Design):
             )
         )
     rows.extend(slot.gbw_rows)
-    if unit == "A":
-        rows = [replace(r, condition=r.condition + "; referred to a current sensor") for r in rows]
     split = slot.stage(en_max / math.sqrt(2), in_max / math.sqrt(2)) if i_path > 0 else None
     limit = {
         "en": NoiseDensity(en_max, slot.en_corner_hz),
