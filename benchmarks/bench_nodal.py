@@ -28,43 +28,15 @@ from pathlib import Path
 
 import numpy as np
 
-sys.path.insert(0, str(Path(__file__).resolve().parent.parent))
+ROOT = Path(__file__).resolve().parent.parent
+sys.path[:0] = [str(ROOT), str(ROOT / "tests")]
 
-from resplan.noise.netlist import Netlist, OpAmpModel, Resistor, VoltageSource  # noqa: E402
+from invented import invented_filter_chain  # noqa: E402  (tests/invented.py, circuit 14)
+
 from resplan.noise.nodal import build_mna, solve_noise  # noqa: E402
-from resplan.noise.sections import lowpass_cascade_parts  # noqa: E402
 
 TARGET_S = 5e-3
 GRID_POINTS = 2000
-
-
-def invented_circuit() -> Netlist:
-    """The benchmark circuit (invented values)."""
-    amp = OpAmpModel(
-        dc_gain=1e6,
-        gbw_hz=10e6,
-        en_v_per_rthz=5e-9,
-        en_corner_hz=10.0,
-        in_plus_a_per_rthz=1e-12,
-        in_minus_a_per_rthz=1e-12,
-        in_corner_hz=100.0,
-    )
-    return Netlist(
-        [
-            VoltageSource("vin", "src", "0"),
-            Resistor("sensor.R", "src", "cable", 1e3),
-            Resistor("cable.R", "cable", "p", 10.0),
-            *amp.parts("stages[0].opamp", "p", "m", "g"),
-            Resistor("stages[0].RF", "g", "m", 9e3),
-            Resistor("stages[0].RG", "m", "0", 1e3),
-            *lowpass_cascade_parts("stages[1]", "butterworth", 8, 20e3, "g", "f1", amp),
-            *lowpass_cascade_parts(
-                "stages[2]", "bessel", 4, 50e3, "f1", "out", amp, topology="multiple-feedback"
-            ),
-        ],
-        output="out",
-        signal_input="vin",
-    )
 
 
 def main() -> int:
@@ -73,7 +45,7 @@ def main() -> int:
     parser.add_argument("--profile", action="store_true")
     args = parser.parse_args()
 
-    net = invented_circuit()
+    net = invented_filter_chain()
     grid = np.geomspace(0.1, 1e7, GRID_POINTS)
     mna = build_mna(net)
     print(

@@ -17,6 +17,7 @@ import numpy as np
 import pytest
 from hypothesis import given, settings
 from hypothesis import strategies as st
+from invented import invented_filter_chain, invented_non_inverting, invented_transimpedance
 
 from resplan.errors import DesignError
 from resplan.noise.netlist import (
@@ -482,32 +483,9 @@ def test_synthesis_rejects_impossible_values() -> None:
 # the solver itself
 
 
-def _non_inverting(extra=()) -> Netlist:
-    amp = OpAmpModel(
-        dc_gain=1e5,
-        gbw_hz=1e6,
-        en_v_per_rthz=5e-9,
-        en_corner_hz=10.0,
-        in_plus_a_per_rthz=1e-12,
-        in_minus_a_per_rthz=1e-12,
-    )
-    return Netlist(
-        [
-            VoltageSource("vin", "src", "0"),
-            Resistor("Rs", "src", "p", 10e3),
-            *amp.parts("U1", "p", "m", "out"),
-            Resistor("RF", "out", "m", 9e3),
-            Resistor("RG", "m", "0", 1e3),
-            *extra,
-        ],
-        output="out",
-        signal_input="vin",
-    )
-
-
 def test_adjoint_transfers_equal_forward_solves() -> None:
     # Rohrer et al. (1971): yᵀb from one adjoint solve equals eᵀx from the forward solve.
-    net = _non_inverting()
+    net = invented_non_inverting()
     sol = solve_noise(net, FREQS)
     mna = build_mna(net)
     e = mna.output_selector()
@@ -525,51 +503,15 @@ def test_adjoint_transfers_equal_forward_solves() -> None:
 
 
 def test_batched_solution_equals_one_frequency_at_a_time() -> None:
-    net = _non_inverting()
+    net = invented_non_inverting()
     whole = solve_noise(net, FREQS)
     for i, f in enumerate(FREQS):
         np.testing.assert_allclose(solve_noise(net, [f]).transfer[0], whole.transfer[i], rtol=1e-12)
 
 
-def _mixed_chain() -> Netlist:
-    amp = OpAmpModel(
-        dc_gain=1e6,
-        gbw_hz=10e6,
-        en_v_per_rthz=5e-9,
-        en_corner_hz=10.0,
-        in_plus_a_per_rthz=1e-12,
-        in_minus_a_per_rthz=1e-12,
-    )
-    return Netlist(
-        [
-            VoltageSource("vin", "in", "0"),
-            *lowpass_cascade_parts("a", "butterworth", 8, 20e3, "in", "mid", amp),
-            *lowpass_cascade_parts(
-                "b", "bessel", 5, 5e3, "mid", "out", amp, topology="multiple-feedback"
-            ),
-        ],
-        output="out",
-        signal_input="vin",
-    )
-
-
-def _photodiode() -> Netlist:
-    return Netlist(
-        [
-            CurrentSource("iph", "0", "m"),
-            Resistor("Rsh", "m", "0", 100e6),
-            Capacitor("Cj", "m", "0", 100e-12),
-            ShotNoise("pd.shot", "0", "m", 1e-9),
-            Resistor("RF", "m", "out", 10e6),
-            Capacitor("CF", "m", "out", 1e-12),
-            *noisy_opamp("U1", "0", "m", "out", dc_gain=1e6, gbw_hz=10e6, en_v_per_rthz=1e-8),
-        ],
-        output="out",
-        signal_input="iph",
-    )
-
-
-@pytest.mark.parametrize("build", [_non_inverting, _mixed_chain, _photodiode])
+@pytest.mark.parametrize(
+    "build", [invented_non_inverting, invented_filter_chain, invented_transimpedance]
+)
 def test_schur_path_matches_the_stacked_lu(build) -> None:
     # Both are backward-stable solves of the same system: at each frequency the
     # transfers agree to rounding relative to the largest transfer there.
@@ -596,11 +538,11 @@ def test_schur_path_reports_singular_circuits() -> None:
     with pytest.raises(CircuitError, match="singular"):
         solve_noise(net, FREQS, method="schur")
     with pytest.raises(DesignError, match="method"):
-        solve_noise(_non_inverting(), FREQS, method="cramer")  # type: ignore[arg-type]
+        solve_noise(invented_non_inverting(), FREQS, method="cramer")  # type: ignore[arg-type]
 
 
 def test_solution_shapes_and_lookup() -> None:
-    sol = solve_noise(_non_inverting(), FREQS)
+    sol = solve_noise(invented_non_inverting(), FREQS)
     assert sol.source_ids == ("Rs.thermal", "U1.en", "U1.in+", "U1.in-", "RF.thermal", "RG.thermal")
     assert sol.transfer.shape == sol.output_psd.shape == (FREQS.size, 6)
     assert sum(sol.rms_by_source().values()) >= sol.rms_v()
@@ -638,9 +580,9 @@ capacitances = st.floats(min_value=1e-12, max_value=1e-6)
     node=st.sampled_from(["p", "m", "out", "src"]),
 )
 def test_adding_a_source_never_lowers_the_total(r, density, node) -> None:
-    before = solve_noise(_non_inverting(), FREQS).total_psd_v2_per_hz
+    before = solve_noise(invented_non_inverting(), FREQS).total_psd_v2_per_hz
     after = solve_noise(
-        _non_inverting([CurrentNoise("extra", "0", node, density)]), FREQS
+        invented_non_inverting([CurrentNoise("extra", "0", node, density)]), FREQS
     ).total_psd_v2_per_hz
     assert np.all(after >= before * (1 - 1e-12))
 
@@ -906,7 +848,7 @@ def test_positive_feedback_is_unstable_and_real_circuits_are_stable() -> None:
         output="out",
     )
     assert check_stability(tia).stable
-    assert check_stability(_non_inverting()).stable
+    assert check_stability(invented_non_inverting()).stable
 
 
 def test_ideal_integrator_is_marginal() -> None:
