@@ -48,6 +48,7 @@ from ..chain.netlists import (
     ChainCircuit,
     circuit_of,
 )
+from ..errors import ResplanError
 from ..noise.netlist import Capacitor, CurrentSource, OpAmp, Resistor
 from ..noise.nodal import build_mna
 from ..units.formatting import format_percent
@@ -550,7 +551,9 @@ def exact_trials(model: SpreadModel) -> ExactTrials | None:
         return found[1]
     try:
         engine: ExactTrials | None = ExactTrials(model)
-    except Unsupported:
+    except (Unsupported, ResplanError, ArithmeticError, ValueError, np.linalg.LinAlgError):
+        # Anything the batched path cannot do (a design refused at a spread's end, a
+        # singular circuit there) leaves the trials to full budgets, which say why.
         engine = None
     if len(_ENGINES) >= 4:
         _ENGINES.pop(next(iter(_ENGINES)))

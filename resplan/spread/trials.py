@@ -251,7 +251,7 @@ def run_trials(
     range_limit = 1.0 - headroom  # the headroom item, or the range itself when none
     engine = None
     if exact:
-        from .exact import exact_trials
+        from .exact import Unsupported, exact_trials
 
         engine = exact_trials(model)
     done = 0
@@ -261,9 +261,14 @@ def run_trials(
         factors: list = []
         out = model.outputs(theta, factors)
         if engine is not None:
-            powers = engine.contribution_powers(theta, out[m + 1])
-            rows = engine.front_end_rows
-            out[rows] = powers[rows]
+            try:
+                powers = engine.contribution_powers(theta, out[m + 1])
+            except Unsupported:  # a chunk whose parts moved too far for the update
+                engine = None
+                _solve_exactly(model, theta, out)
+            else:
+                rows = engine.front_end_rows
+                out[rows] = powers[rows]
         elif exact:
             _solve_exactly(model, theta, out)
         power = out[0].copy()
