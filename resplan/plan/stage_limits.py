@@ -97,6 +97,33 @@ def _current_label(chain: Chain, index: int) -> tuple[str, str]:
     return "current noise i_n", "at the inverting input, through the feedback network"
 
 
+#: Where data sheets quote a part's 1/f noise (common practice, no source), Hz.
+LOW_FREQUENCY_HZ = 10.0
+
+
+def _low_frequency_rows(slot: Slot, white: float, key: str, what: str, unit: str) -> list:
+    """The density limit at :data:`LOW_FREQUENCY_HZ` when a 1/f corner matters.
+
+    e(f) = e_w·√(1 + f_c/f) (the 1/f + white model, Motchenbacher & Connelly).
+    """
+    fc = slot.part.known.get(key, 0.0)
+    if not fc > 0 or not math.isfinite(white):
+        return []
+    f = LOW_FREQUENCY_HZ
+    return [
+        PartRequirement(
+            slot.part.name,
+            slot.part.field_path,
+            f"{what} noise density at {format_si(f, 'Hz')} (the same part)",
+            white * math.sqrt(1 + fc / f),
+            unit,
+            "max",
+            f"the white limit above with its 1/f corner {format_si(fc, 'Hz')}",
+            "e(f) = e_w·√(1 + f_c/f)",
+        )
+    ]
+
+
 def gain_stage_rows(slot: Slot, var: float, chain: Chain, design: Design):
     """e_n, i_n (alone and half each), the output density and GBW of an open gain stage.
 
@@ -125,7 +152,9 @@ def gain_stage_rows(slot: Slot, var: float, chain: Chain, design: Design):
             "e_n = σ / σ₁ (σ₁: the solved budget's rms for e_n = 1 V/√Hz)",
         )
     ]
+    rows += _low_frequency_rows(slot, en_max, "en_corner_hz", "voltage", "V/√Hz")
     if math.isfinite(in_max):
+        rows += _low_frequency_rows(slot, in_max, "in_corner_hz", "current", "A/√Hz")
         label, where = _current_label(chain, slot.index)
         rows += [
             PartRequirement(
@@ -225,6 +254,7 @@ def _op_amp_filter_rows(slot: Slot, sigma: float, e_max: float):
             "e_n = σ / √(Σ σ₁ⱼ²) over its op amps",
         )
     ]
+    rows += _low_frequency_rows(slot, e_max, "en_corner_hz", "voltage", "V/√Hz")
     if math.isfinite(in_max):
         rows.append(
             PartRequirement(
