@@ -9,7 +9,8 @@ or ``check --json``, a share through ``plan``, a smaller share through
 ``report``, and a sample in a fresh subprocess. A run counts as
 
 - a traceback: any exception other than a clean exit;
-- a hang: longer than ``--timeout`` seconds;
+- a hang: over ``--timeout`` seconds of CPU time, or six times that of wall time (a
+  subprocess: twice the timeout of wall time);
 - a bad exit: an exit code outside {0, 1, 2};
 - a bad message: on exit 2, a stderr line that does not start with ``error:``,
   a repeated line, or any Python warning on stderr;
@@ -172,6 +173,11 @@ def _alarm(signum, frame):
     raise Hang()
 
 
+#: Wall time allowed per run, as a multiple of the CPU-time limit: on a shared machine a
+#: run at low priority may wait for the processor far longer than it computes.
+WALL_FACTOR = 6
+
+
 def _examples() -> dict[str, str]:
     from resplan.designfile.examples import EXAMPLE_NAMES, example_text
 
@@ -186,7 +192,7 @@ def judge(command: str, result, folder: Path, seconds: float) -> list[str]:
     problems = []
     exc = result.exception
     if isinstance(exc, Hang):  # the time limit fired inside the command
-        problems.append(f"hang: over the time limit ({seconds:.0f} s)")
+        problems.append(f"hang: over the time limit ({seconds:.0f} s of CPU)")
         return problems
     if exc is not None and not isinstance(exc, SystemExit):
         tb = "".join(traceback.format_exception(type(exc), exc, exc.__traceback__)[-3:])
@@ -224,21 +230,27 @@ def judge(command: str, result, folder: Path, seconds: float) -> list[str]:
             problems.append(f"report left {leftovers}")
         pdf.unlink(missing_ok=True)
     if seconds > 20:
-        problems.append(f"slow: {seconds:.1f} s")
+        problems.append(f"slow: {seconds:.1f} s of CPU")
     return problems
 
 
 def run_one(runner, main, args: list[str], timeout: float):
+    """Run one command in-process; a hang is over ``timeout`` s of CPU time (a loop) or
+    over WALL_FACTOR times that of wall time (a blocked read). Returns the result and
+    the CPU seconds it took."""
     signal.signal(signal.SIGALRM, _alarm)
-    signal.setitimer(signal.ITIMER_REAL, timeout)
-    start = time.perf_counter()
+    signal.signal(signal.SIGPROF, _alarm)
+    signal.setitimer(signal.ITIMER_PROF, timeout)
+    signal.setitimer(signal.ITIMER_REAL, WALL_FACTOR * timeout)
+    start = time.process_time()
     try:
         with warnings.catch_warnings():
             warnings.simplefilter("default")
             result = runner.invoke(main, args, catch_exceptions=True)
     finally:
+        signal.setitimer(signal.ITIMER_PROF, 0)
         signal.setitimer(signal.ITIMER_REAL, 0)
-    return result, time.perf_counter() - start
+    return result, time.process_time() - start
 
 
 def subprocess_check(path: Path, timeout: float) -> list[str]:

@@ -612,6 +612,23 @@ def test_what_to_improve_is_not_ranked_on_a_long_chain_and_says_why():
 # --- found by the fuzz campaign (benchmarks/fuzz_campaign.py) -------------------------------
 
 
+def test_twenty_stages_after_an_op_amp_check_quickly_and_keep_the_verdict(runner, tmp_path):
+    # Found by the campaign as wall-clock "hangs": 20 tiny RC stages inserted after the
+    # soil-temperature example's stages took seconds of CPU (what to improve re-solved
+    # the chain for each of its ~55 figures) and, at low priority on a busy machine, over
+    # 30 s of wall time. Such a chain is now checked without the ranking; the tiny
+    # stages (10 Ω, 1 nF: poles near 16 MHz) leave the verdict as it was.
+    text = example_text("soil-temperature")
+    longer = text.replace("\n[reference]\n", "\n" + _TINY_RC * 20 + "[reference]\n", 1)
+    assert longer.count("[[stages]]") == text.count("[[stages]]") + 20
+    path = tmp_path / "d.toml"
+    path.write_text(longer)
+    result = runner.invoke(main, ["check", str(path)])
+    assert result.exit_code == 0, result.output
+    assert "every figure: not evaluated" in result.stdout
+    assert result.stdout.splitlines()[-1].startswith("MEETS")
+
+
 def test_a_value_that_rounds_to_zero_is_refused(runner, tmp_path):
     # "60e-320 nV" is 6e-328 V: not zero as written, but zero as a double (IEEE 754).
     path = tmp_path / "d.toml"

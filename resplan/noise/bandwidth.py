@@ -398,23 +398,26 @@ def _image_panels(
 _NODES = 0.5 * (1.0 - np.cos((2 * np.arange(_PANEL_NODES) + 1) * np.pi / (2 * _PANEL_NODES)))
 
 
-@lru_cache(maxsize=1)
-def _node_inverse() -> np.ndarray:
-    from numpy.polynomial import chebyshev
+def _chebyshev_vander(x: np.ndarray) -> np.ndarray:
+    """T_0 … T_{n−1} at x, (points, n), by the three-term recurrence T_{k+1} = 2x·T_k − T_{k−1}
+    (numpy.polynomial's chebvander, without importing that package on the check path)."""
+    out = np.empty((x.size, _PANEL_NODES))
+    out[:, 0] = 1.0
+    out[:, 1] = x
+    for k in range(2, _PANEL_NODES):
+        out[:, k] = 2.0 * x * out[:, k - 1] - out[:, k - 2]
+    return out
 
-    return np.linalg.inv(chebyshev.chebvander(2.0 * _NODES - 1.0, _PANEL_NODES - 1))
+
+#: Inverse of the Chebyshev matrix at the nodes (well conditioned: a scaled transpose;
+#: Mason & Handscomb, *Chebyshev Polynomials*, §6.3, from memory).
+_NODE_INVERSE = np.linalg.inv(_chebyshev_vander(2.0 * _NODES - 1.0))
 
 
 def _chebyshev_basis(x: np.ndarray) -> np.ndarray:
-    """Lagrange basis ℓ_k on the panel nodes at x ∈ [−1, 1], (points, nodes).
-
-    Formed through the Chebyshev polynomials, whose matrix at Chebyshev nodes is well
-    conditioned (its inverse is a scaled transpose; Mason & Handscomb, *Chebyshev
-    Polynomials*, §6.3, from memory).
-    """
-    from numpy.polynomial import chebyshev
-
-    return chebyshev.chebvander(x, _PANEL_NODES - 1) @ _node_inverse()
+    """Lagrange basis ℓ_k on the panel nodes at x ∈ [−1, 1], (points, nodes), formed through
+    the Chebyshev polynomials."""
+    return _chebyshev_vander(x) @ _NODE_INVERSE
 
 
 def _integrate_folded(psd, analog, digital, f_low, grid_points, folded_source):
