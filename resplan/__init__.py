@@ -36,11 +36,13 @@ from .chain.signal_chain import Band, Chain
 from .chain.stages import (
     ActiveFilter,
     IntegratedAmplifier,
+    InvertingStage,
     NoiseDensity,
     NonInvertingStage,
     RCFilter,
     Reference,
     Sensor,
+    TransimpedanceStage,
 )
 from .chain.tolerance import Spread
 from .errors import ChainError, DesignError, DesignErrors, ResplanError
@@ -78,6 +80,8 @@ __all__ = [
     "IdealLowpass",
     "InputNoiseDensity",
     "IntegratedAmplifier",
+    "InvertingStage",
+    "TransimpedanceStage",
     "NoiseAtRate",
     "NoiseBandwidth",
     "NoiseDensity",

@@ -48,6 +48,34 @@ FORMULAS: tuple[tuple[str, str, str], ...] = (
         "Motchenbacher and Connelly, ch. 2",
     ),
     (
+        "Photodiode as a current source",
+        "i² = 4kT/R_sh + 2q·I_dark + 2q·I_fs per hertz, I_fs the largest signal current; "
+        "referred to the sensor in A",
+        "W. Schottky, Ann. Phys. 57, 541 (1918) for the shot noise; Johnson (1928) and "
+        "Nyquist (1928) for the shunt; Motchenbacher and Connelly, ch. 2",
+    ),
+    (
+        "Transimpedance stage",
+        "v_o = −I·Z_f, Z_f = R_f ∥ C_f; e_n sees NG = 1 + Z_f/Z_in, Z_in = R_sh ∥ (C_j + C_in): "
+        "1 at DC, 1 + (C_j + C_in)/C_f above the zero, v_o/e_n = NG/(1 + NG·s/ω_t)",
+        "J. G. Graeme, Photodiode Amplifiers: Op Amp Solutions, McGraw-Hill (1996) (from "
+        "memory); the feedback relation A/(1 + Aβ), β = 1/NG, A = ω_t/s; the budget takes "
+        "it from the nodal solve",
+    ),
+    (
+        "Transimpedance loop gain and ringing",
+        "refused when GBW/f_top < |NG(f_top)| or a loop pole pair has Q > 50; C_f for a 45° "
+        "phase margin ≈ √((C_j + C_in)/(2π·R_f·GBW))",
+        "Graeme (1996) (from memory); the Q limit is common practice, no source",
+    ),
+    (
+        "Filter section from its component values",
+        "Sallen-Key: ω₀² = 1/(R1R2C1C2), 1/(ω₀Q) = C2(R1 + R2) + R1C1(1 − K); multiple "
+        "feedback: ω₀² = 1/(R2R3C1C2), 1/(ω₀Q) = C2(R2 + R3 + R2R3/R1), K = −R2/R1",
+        "R. P. Sallen and E. L. Key, IRE Trans. Circuit Theory CT-2, 74 (1955); the "
+        "multiple-feedback transfer derived by nodal analysis (resplan.noise.sections)",
+    ),
+    (
         "Integrated amplifier, referred to its input",
         "e² = e_in² + (e_out/G)² + (i_n·R_s)²",
         "Motchenbacher and Connelly, ch. 2 (two-stage model)",
