@@ -182,3 +182,16 @@ def test_schema_knows_the_new_fields():
         tia
     )
     assert all(tia[k].get("description") for k in tia)
+
+
+def test_stated_interferers_are_refused_for_a_current_sensor_in_one_line():
+    text = _edit(
+        "[sensor]\n", 'interferer = { frequency = "150 kHz", amplitude = "10 mV" }\n\n[sensor]\n'
+    )
+    with pytest.raises(DesignErrors) as err:
+        loads_design(text, "pd.toml")
+    lines = str(err.value).splitlines()
+    assert len(lines) == 1 and "pd.toml: requirement.interferer" in lines[0], lines
+    # The allowance, in A rms, is the way to reserve room for interference.
+    design = loads_design(_edit('f_high = "1 kHz"', 'f_high = "1 kHz"\ninterference = "10 pA"'))
+    assert design.requirement.interference_rms_v == pytest.approx(10e-12)

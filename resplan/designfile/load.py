@@ -188,7 +188,17 @@ def design_from_mapping(
     adc = read_adc(r, model.adc, reference, model.reference)
     digital = read_digital(r, model.digital, adc)
     band = read_band(r, model.requirement, digital, adc)
-    interferers = read_interferers(r, model.requirement, source)
+    if current and (model.requirement.interferers or model.requirement.interferer):
+        key = "interferers" if model.requirement.interferers else "interferer"
+        r.bad(
+            f"requirement.{key}",
+            "given",
+            "no stated interferers for a current-output sensor yet (their amplitudes are "
+            "volts at the sensor): reserve an allowance in A rms as requirement.interference",
+        )
+        interferers: tuple = ()
+    else:
+        interferers = read_interferers(r, model.requirement, source)
     interferer = None
     if model.requirement.interferer is not None and interferers:
         interferer = (interferers[0].frequency_hz, interferers[0].amplitude_v)
