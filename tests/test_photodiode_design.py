@@ -195,3 +195,23 @@ def test_stated_interferers_are_refused_for_a_current_sensor_in_one_line():
     # The allowance, in A rms, is the way to reserve room for interference.
     design = loads_design(_edit('f_high = "1 kHz"', 'f_high = "1 kHz"\ninterference = "10 pA"'))
     assert design.requirement.interference_rms_v == pytest.approx(10e-12)
+
+
+def test_photodiode_example_report_end_to_end(tmp_path):
+    # The INVENTED turbidity-photodiode example through `resplan report`: the PDF states
+    # the figures at the sensor in A, the gain in V/A, and draws the stage by R_f and C_f.
+    from pypdf import PdfReader
+
+    from resplan.designfile.examples import example_text
+
+    path = tmp_path / "pd.toml"
+    path.write_text(example_text("turbidity-photodiode"), encoding="utf-8")
+    out = tmp_path / "pd.pdf"
+    result = CliRunner().invoke(main, ["report", str(path), "-o", str(out)])
+    assert result.exit_code == 0, result.output
+    text = "\n".join(p.extract_text() for p in PdfReader(out).pages)
+    for words in ("2.00 µA", "MV/A", "pA rms at the sensor", "R_f 1.00 MΩ", "C_f 5.00 pF"):
+        assert words in text, words
+    assert "transimpedance stage" in text and "current-output sensor" in text
+    assert "stages[0].opamp.en" in text and "sensor.signal_shot" in text
+    assert "IEC 61010-1" in text  # the safety caution
