@@ -10,6 +10,7 @@ resplan.chain.netlists.check_circuit).
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
@@ -176,3 +177,25 @@ def test_noise_fields_of_an_open_op_amp_stage_are_refused_one_line_each(runner, 
     assert any("stages[0].en:" in line for line in lines)
     assert any("stages[0].in:" in line for line in lines)
     assert "Traceback" not in result.output
+
+
+def test_the_worked_example_of_docs_planning_md(tmp_path):
+    # docs/planning.md, "Worked example: an open transimpedance stage": the numbers the
+    # page states, as the planner writes them (engineering prefixes, three digits).
+    from resplan.units.formatting import format_si
+
+    design = load_design(_open_photodiode(tmp_path))
+    plan = plan_design(design)
+    rows = {r.quantity: r.value for r in plan.requirements}
+    # 72 dB over 2 µA: σ = (2 µA/2√2)·10^(−72/20) (DOMAIN §6, dynamic range of a sine).
+    assert plan.allowed_total_rms_v == pytest.approx(2e-6 / (2 * 2**0.5) * 10 ** (-72 / 20))
+    got = [
+        format_si(plan.allowed_total_rms_v, "A"),
+        format_si(plan.remaining_rms_v, "A"),
+        format_si(rows["white voltage noise e_n (current noise negligible)"], "V/√Hz"),
+        format_si(rows["gain-bandwidth product GBW for a flat response"], "Hz"),
+    ]
+    assert got == ["178 pA", "158 pA", "18.6 nV/√Hz", "25.5 MHz"]
+    text = (Path(__file__).parents[1] / "docs" / "planning.md").read_text(encoding="utf-8")
+    for number in ("178 pA", "158 pA", "18.6 nV/√Hz", "25.5 MHz"):
+        assert number in text
