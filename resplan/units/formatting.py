@@ -98,6 +98,15 @@ def _join(number: str, unit: str) -> str:
     return f"{number} {unit}" if unit else number
 
 
+def _non_finite(value: float, unit: str = "") -> str | None:
+    """The text of a NaN ("n/a") or an infinity ("∞ unit", "-∞ unit"); None if finite."""
+    if math.isnan(value):
+        return "n/a"
+    if math.isinf(value):
+        return _join("-∞" if value < 0 else "∞", unit)
+    return None
+
+
 def _round_significant(value: float, digits: int) -> tuple[float, int]:
     """Round ``|value| > 0`` to ``digits`` significant digits.
 
@@ -166,10 +175,8 @@ def format_si(value: float, unit: str, digits: int = 3) -> str:
     """
     _check_digits(digits)
     value = float(value)
-    if math.isnan(value):
-        return "n/a"
-    if math.isinf(value):
-        return _join("-∞" if value < 0 else "∞", unit)
+    if (text := _non_finite(value, unit)) is not None:
+        return text
     if unit in RATIO_UNITS:
         return format_number(value, unit, digits)
     if unit in NO_PREFIX_UNITS or unit[:1] in ("1", "/"):
@@ -223,10 +230,8 @@ def format_number(value: float, unit: str = "", digits: int = 3) -> str:
     """
     _check_digits(digits)
     value = float(value)
-    if math.isnan(value):
-        return "n/a"
-    if math.isinf(value):
-        return _join("-∞" if value < 0 else "∞", unit)
+    if (text := _non_finite(value, unit)) is not None:
+        return text
     whole = round(value)
     if abs(value) < 10.0**_FIXED_HIGH and abs(value - whole) <= _WHOLE_TOLERANCE * max(
         1.0, abs(value)
@@ -249,10 +254,8 @@ def format_in_unit(value: float, unit: str, digits: int = 3) -> str:
     """
     _check_digits(digits)
     value = float(value)
-    if math.isnan(value):
-        return "n/a"
-    if math.isinf(value):
-        return _join("-∞" if value < 0 else "∞", unit)
+    if (text := _non_finite(value, unit)) is not None:
+        return text
     return _join(_plain(value, digits), unit)
 
 
@@ -303,10 +306,8 @@ def format_db(value: float) -> str:
     '-3.0 dB'
     """
     value = float(value)
-    if math.isnan(value):
-        return "n/a"
-    if math.isinf(value):
-        return "-∞ dB" if value < 0 else "∞ dB"
+    if (text := _non_finite(value, "dB")) is not None:
+        return text
     return f"{value:.1f} dB"
 
 
@@ -319,10 +320,8 @@ def format_bits(value: float) -> str:
     '19.42 bits'
     """
     value = float(value)
-    if math.isnan(value):
-        return "n/a"
-    if math.isinf(value):
-        return "-∞ bits" if value < 0 else "∞ bits"
+    if (text := _non_finite(value, "bits")) is not None:
+        return text
     return f"{value:.2f} bits"
 
 
@@ -343,10 +342,8 @@ def format_counts(value: float) -> str:
     '12.3'
     """
     value = float(value)
-    if math.isnan(value):
-        return "n/a"
-    if math.isinf(value):
-        return "-∞" if value < 0 else "∞"
+    if (text := _non_finite(value)) is not None:
+        return text
     if abs(value) < 100:
         return _plain(value, 3)
     return f"{value:,.0f}"
@@ -375,10 +372,8 @@ def format_percent(fraction: float, digits: int = 3) -> str:
     """
     _check_digits(digits)
     fraction = float(fraction)
-    if math.isnan(fraction):
-        return "n/a"
-    if math.isinf(fraction):
-        return "-∞ %" if fraction < 0 else "∞ %"
+    if (text := _non_finite(fraction, "%")) is not None:
+        return text
     if 0 < abs(fraction * 100) < 10.0**_FIXED_LOW:
         # a share too small to matter, never written "3.13e-06 %"
         return f"{'> -' if fraction < 0 else '< '}{_plain(10.0**_FIXED_LOW, 1)} %"

@@ -19,6 +19,11 @@ def _known_value(key: str, value: Any) -> str:
     return format_si(value, unit)
 
 
+def _gbw_text(part: Any) -> str:
+    """"; GBW …" for a part with a stated gain-bandwidth product, else nothing."""
+    return "" if part.gbw_hz is None else f"; GBW {format_si(part.gbw_hz, 'Hz')}"
+
+
 def _density(nd: Any, unit: str) -> str:
     if nd is None:
         return "—"
@@ -73,8 +78,7 @@ def describe_part(part: Any) -> tuple[str, str, str]:
         )
         if part.input_capacitance_f:
             figures += f"; input capacitance {format_si(part.input_capacitance_f, 'F')}"
-        if part.gbw_hz is not None:
-            figures += f"; GBW {format_si(part.gbw_hz, 'Hz')}"
+        figures += _gbw_text(part)
         return part.name, "transimpedance stage", figures
     if isinstance(part, InvertingStage):
         figures = (
@@ -82,8 +86,7 @@ def describe_part(part: Any) -> tuple[str, str, str]:
             f"{format_si(part.rin_ohm, 'Ω')}); e_n {_density(part.en, 'V/√Hz')}; "
             f"i_n− {_density(part.in_minus, 'A/√Hz')}"
         )
-        if part.gbw_hz is not None:
-            figures += f"; GBW {format_si(part.gbw_hz, 'Hz')}"
+        figures += _gbw_text(part)
         return part.name, "inverting stage", figures
     if isinstance(part, NonInvertingStage):
         figures = (
@@ -93,8 +96,7 @@ def describe_part(part: Any) -> tuple[str, str, str]:
         )
         if part.in_minus is not None:
             figures += f"; i_n− {_density(part.in_minus, 'A/√Hz')}"
-        if part.gbw_hz is not None:
-            figures += f"; GBW {format_si(part.gbw_hz, 'Hz')}"
+        figures += _gbw_text(part)
         return part.name, "op-amp stage", figures
     if isinstance(part, IntegratedAmplifier):
         figures = (
@@ -129,8 +131,7 @@ def describe_part(part: Any) -> tuple[str, str, str]:
         )
         if part.en is not None:
             figures += f"; e_n {_density(part.en, 'V/√Hz')}"
-        if part.gbw_hz is not None:
-            figures += f"; GBW {format_si(part.gbw_hz, 'Hz')}"
+        figures += _gbw_text(part)
         return part.name, "active filter", figures
     if isinstance(part, ActiveFilter):
         figures = (
